@@ -1,0 +1,121 @@
+"""Command line: parse arguments, call the Python API, turn errors into one line.
+
+Exit codes: 0 success; 2 bad input (any :class:`~suitmap.errors.SuitmapError`);
+1 an unexpected internal error; 130 interrupted.
+"""
+
+from __future__ import annotations
+
+import argparse
+import sys
+import warnings
+from pathlib import Path
+
+from . import __version__
+from .errors import SuitmapError, SuitmapWarning
+
+
+def _show_warning(message, category, filename, lineno, file=None, line=None):
+    text = str(message).splitlines()[0] if str(message) else category.__name__
+    print(f"suitmap: warning: {text}", file=sys.stderr)
+
+
+def _progress_wanted(args) -> bool:
+    return not args.quiet and sys.stderr.isatty()
+
+
+def _cmd_demo(args) -> int:
+    from .demo import run_demo
+
+    out = Path(args.out)
+    manifest = run_demo(out, overwrite=args.overwrite, progress=_progress_wanted(args))
+    root = manifest.parent
+    print(f"demo inputs:  {out.resolve()}")
+    print(f"demo outputs: {root}")
+    print(f"manifest:     {manifest}")
+    print("The demo region, climate and organism are invented. Outputs are screening-level "
+          "estimates, not a basis for control decisions.")
+    return 0
+
+
+def _cmd_run(args) -> int:
+    from .pipeline import run
+
+    manifest = run(args.runfile, overwrite=args.overwrite, progress=_progress_wanted(args))
+    if not args.quiet:
+        print(f"outputs:  {manifest.parent}")
+        print(f"manifest: {manifest}")
+    return 0
+
+
+def _cmd_check(args) -> int:
+    from .pipeline import check_run
+
+    run, profile, opened = check_run(args.runfile)
+    print(f"run file: {run.path}")
+    print(f"profile:  {run.profile_path} ({profile.organism.name})")
+    for pc in opened:
+        print(f"[{pc.period.kind} {pc.period.name}] years {pc.period.years[0]}-{pc.period.years[1]}")
+        for line in pc.qa.lines():
+            print(f"  {line}")
+    print("usable: yes")
+    return 0
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(
+        prog="suitmap",
+        description="Degree-days, generations and thermal suitability of an insect on gridded "
+                    "baseline and scenario climate. Screening-level estimates only.")
+    parser.add_argument("--version", action="version", version=f"suitmap {__version__}")
+    common = argparse.ArgumentParser(add_help=False)
+    common.add_argument("--debug", action="store_true", help="show tracebacks of errors")
+    common.add_argument("--quiet", action="store_true", help="no progress bar, fewer messages")
+    sub = parser.add_subparsers(dest="command", required=True, metavar="COMMAND")
+
+    p = sub.add_parser("demo", parents=[common],
+                       help="run the whole pipeline on the bundled invented sample data")
+    p.add_argument("--out", default="suitmap-demo",
+                   help="folder to create for the demo inputs and results (default: ./suitmap-demo)")
+    p.add_argument("--overwrite", action="store_true", help="replace the folder if it exists")
+    p.set_defaults(func=_cmd_demo)
+
+    p = sub.add_parser("run", parents=[common], help="compute and write every layer of a run file")
+    p.add_argument("runfile", help="run file (TOML)")
+    p.add_argument("--overwrite", action="store_true",
+                   help="replace the output folder if it exists")
+    p.set_defaults(func=_cmd_run)
+
+    p = sub.add_parser("check", parents=[common],
+                       help="read every input of a run file and print a QA summary, computing nothing")
+    p.add_argument("runfile", help="run file (TOML)")
+    p.set_defaults(func=_cmd_check)
+    return parser
+
+
+def main(argv: list[str] | None = None) -> int:
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    warnings.showwarning = _show_warning
+    warnings.simplefilter("always", SuitmapWarning)
+    try:
+        return args.func(args)
+    except SuitmapError as exc:
+        if args.debug:
+            raise
+        print(f"suitmap: error: {exc}", file=sys.stderr)
+        return exc.exit_code
+    except KeyboardInterrupt:
+        print("suitmap: interrupted; no outputs were written", file=sys.stderr)
+        return 130
+    except Exception as exc:  # noqa: BLE001 - the CLI promises one line, not a traceback
+        if args.debug:
+            raise
+        first = str(exc).splitlines()[0] if str(exc) else ""
+        print(f"suitmap: internal error: {type(exc).__name__}: {first} "
+              "(rerun with --debug for the traceback and please report it)", file=sys.stderr)
+        return 1
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())

@@ -1,0 +1,236 @@
+"""Per-period layers over a chunked grid.
+
+Daily Tmin/Tmax (dims ``time, y, x``, °C, time in one chunk) go through the
+pure degree-day kernel block by block (``xr.apply_ufunc`` with
+``dask="parallelized"``); each block is reduced to season-year statistics at
+once, so memory is bounded by the spatial chunk size, never by the grid.
+Seasonal sums are accumulated in float64.
+
+The season statistics are then summarised over the period into the layers of
+the glossary.  The suitability score is defined in the README:
+
+    development_score = years_with_generation * min(1, generations / saturating_generations)
+    survival_score    = fraction of seasons without any lethal cold or heat day
+    suitability       = development_score * survival_score
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import xarray as xr
+
+from .errors import InputError
+from .kernels.degree_days import degree_days as _dd_kernel
+from .metadata import LIMITING_FACTOR_CLASSES, MISSING_CLASS, layer_attrs
+from .profile import Profile
+from .seasons import (NORTH_DEFAULT, SOUTH_DEFAULT, SeasonWindow, complete_seasons,
+                      season_index, season_labels, time_fields)
+
+#: Season statistics computed per cell and season-year, in this order.
+SEASON_STATS = ("degree_days", "first_generation_day", "cold_kill_days", "heat_kill_days",
+                "mean_tmax")
+
+
+def cell_latitudes(da: xr.DataArray) -> np.ndarray:
+    """Latitude (degrees north) of every cell centre of a (y, x) grid."""
+    crs = da.rio.crs
+    xx, yy = np.meshgrid(da["x"].values, da["y"].values)
+    if crs is None or crs.is_geographic:
+        return yy.astype(float)
+    from pyproj import Transformer
+
+    tr = Transformer.from_crs(crs.to_wkt(), "EPSG:4326", always_xy=True)
+    _, lat = tr.transform(xx, yy)
+    return np.asarray(lat, dtype=float)
+
+
+def season_windows(profile: Profile) -> tuple[SeasonWindow, SeasonWindow, bool]:
+    """(north window, south window, per-hemisphere?) for a profile."""
+    if profile.season.is_default:
+        return SeasonWindow(*NORTH_DEFAULT), SeasonWindow(*SOUTH_DEFAULT), True
+    w = SeasonWindow(profile.season.start, profile.season.end)
+    return w, w, False
+
+
+def _season_block(tmin: np.ndarray, tmax: np.ndarray, south: np.ndarray, *,
+                  slices_north, slices_south, lower, upper, method, cutoff, dd_per_gen,
+                  lethal_cold, lethal_heat) -> np.ndarray:
+    """Season statistics of one block; arrays arrive as (y, x, time)."""
+    tmin = np.ascontiguousarray(tmin)
+    tmax = np.ascontiguousarray(tmax)
+    ny, nx, nt = tmin.shape
+    nseason = len(slices_north)
+    out = np.full((ny, nx, len(SEASON_STATS), nseason), np.nan)
+    south = np.asarray(south, dtype=bool)
+    groups = []
+    if (~south).any():
+        groups.append((~south, slices_north))
+    if south.any():
+        groups.append((south, slices_south))
+    for cells, slices in groups:
+        for k, sl in enumerate(slices):
+            if sl is None:
+                continue
+            i0, i1 = sl
+            tn = tmin[..., i0:i1]
+            tx = tmax[..., i0:i1]
+            nxt = np.empty_like(tn)
+            nxt[..., :-1] = tn[..., 1:]
+            nxt[..., -1] = tmin[..., i1] if i1 < nt else tn[..., -1]
+            dd = _dd_kernel(tn, tx, lower, upper, method=method, cutoff=cutoff, tmin_next=nxt)
+            cum = np.cumsum(dd, axis=-1)
+            total = cum[..., -1]
+            reached = cum >= dd_per_gen
+            first = np.where(reached.any(axis=-1), reached.argmax(axis=-1) + 1.0, np.nan)
+            missing = np.isnan(total)
+            cold = (np.count_nonzero(tn <= lethal_cold, axis=-1).astype(float)
+                    if lethal_cold is not None else np.zeros(total.shape))
+            heat = (np.count_nonzero(tx >= lethal_heat, axis=-1).astype(float)
+                    if lethal_heat is not None else np.zeros(total.shape))
+            mean_tmax = tx.mean(axis=-1, dtype=np.float64)
+            stats = np.stack([total, first, cold, heat, mean_tmax], axis=-1)
+            stats[missing] = np.nan
+            out[cells, :, k] = stats[cells]
+    return out
+
+
+def season_statistics(tmin: xr.DataArray, tmax: xr.DataArray, profile: Profile,
+                      years: tuple[int, int], *, label: str = "") -> xr.Dataset:
+    """Lazy per-season statistics (dims ``season_year, y, x``) for one period.
+
+    ``tmin``/``tmax`` must already be limited to (at least) the period's
+    years; days outside whole seasons are ignored.
+    """
+    first, last = years
+    yrs, mons, days, calendar = time_fields(tmin["time"])
+    north_w, south_w, per_hemisphere = season_windows(profile)
+    lat = cell_latitudes(tmin.isel(time=0))
+    south = (lat < 0) if per_hemisphere else np.zeros(lat.shape, dtype=bool)
+    valid_cells = np.ones(lat.shape, dtype=bool)
+
+    lab_n = season_labels(yrs, mons, days, north_w)
+    lab_s = season_labels(yrs, mons, days, south_w)
+    seasons_n = complete_seasons(lab_n, north_w, calendar, first, last) if (~south & valid_cells).any() else []
+    seasons_s = complete_seasons(lab_s, south_w, calendar, first, last) if (south & valid_cells).any() else []
+    for cells, seas, w, hemi in ((~south, seasons_n, north_w, "northern"),
+                                 (south, seasons_s, south_w, "southern")):
+        if cells.any() and not seas:
+            where = f" ({label})" if label else ""
+            raise InputError(
+                f"climate{where}: no complete season {w.text()} in years {first}-{last} "
+                f"for {hemi}-hemisphere cells; extend the data or change the years or season"
+            )
+    season_years = sorted(set(seasons_n) | set(seasons_s))
+    slices_n = season_index(lab_n, season_years) if seasons_n else [None] * len(season_years)
+    slices_s = season_index(lab_s, season_years) if seasons_s else [None] * len(season_years)
+    slices_n = [s if y in seasons_n else None for s, y in zip(slices_n, season_years)]
+    slices_s = [s if y in seasons_s else None for s, y in zip(slices_s, season_years)]
+
+    dev, surv = profile.development, profile.survival
+    south_da = xr.DataArray(south, dims=("y", "x"), coords={"y": tmin["y"], "x": tmin["x"]})
+    if tmin.chunks is not None:
+        south_da = south_da.chunk({"y": tmin.chunks[1], "x": tmin.chunks[2]})
+    stats = xr.apply_ufunc(
+        _season_block,
+        tmin.chunk({"time": -1}) if tmin.chunks is not None else tmin,
+        tmax.chunk({"time": -1}) if tmax.chunks is not None else tmax,
+        south_da,
+        input_core_dims=[["time"], ["time"], []],
+        output_core_dims=[["stat", "season_year"]],
+        dask="parallelized",
+        output_dtypes=[np.float64],
+        dask_gufunc_kwargs={"output_sizes": {"stat": len(SEASON_STATS),
+                                             "season_year": len(season_years)}},
+        kwargs=dict(slices_north=slices_n, slices_south=slices_s,
+                    lower=dev.lower_threshold, upper=dev.upper_threshold,
+                    method=dev.method, cutoff=dev.cutoff,
+                    dd_per_gen=dev.degree_days_per_generation,
+                    lethal_cold=surv.lethal_cold, lethal_heat=surv.lethal_heat),
+    )
+    stats.attrs = {}
+    stats = stats.assign_coords(season_year=np.array(season_years, dtype=np.int64),
+                                stat=list(SEASON_STATS))
+    ds = stats.to_dataset(dim="stat")
+    ds = ds.transpose("season_year", "y", "x")
+    ds.attrs.update({
+        "seasons_northern": ",".join(map(str, seasons_n)),
+        "seasons_southern": ",".join(map(str, seasons_s)),
+        "season_northern": north_w.text(),
+        "season_southern": south_w.text() if per_hemisphere else north_w.text(),
+        "calendar": calendar,
+    })
+    return ds
+
+
+def period_layers(stats: xr.Dataset, profile: Profile) -> xr.Dataset:
+    """Summarise season statistics over the period into the output layers."""
+    dev, surv = profile.development, profile.survival
+    dd = stats["degree_days"]
+    valid = dd.notnull()
+    n = valid.sum("season_year")
+    present = n > 0
+    nf = n.where(present)
+
+    def mean(x):
+        return x.where(valid).sum("season_year").where(present) / nf
+
+    gens = dd / dev.degree_days_per_generation
+    complete = np.floor(gens)
+    first_day = stats["first_generation_day"]
+    n_first = first_day.notnull().sum("season_year")
+    out = {
+        "degree_days": mean(dd),
+        "generations": mean(gens),
+        "complete_generations": mean(complete),
+        "first_generation_day": first_day.sum("season_year").where(n_first > 0) / n_first.where(n_first > 0),
+        "years_with_generation": mean((complete >= 1).astype(float)),
+    }
+    cold_free = (stats["cold_kill_days"] == 0)
+    heat_free = (stats["heat_kill_days"] == 0)
+    if surv.lethal_cold is not None:
+        out["cold_kill_days"] = mean(stats["cold_kill_days"])
+    if surv.lethal_heat is not None:
+        out["heat_kill_days"] = mean(stats["heat_kill_days"])
+    sat = profile.suitability.saturating_generations
+    development = out["years_with_generation"] * np.minimum(1.0, out["generations"] / sat)
+    survival = mean((cold_free & heat_free).astype(float))
+    out["development_score"] = development
+    out["survival_score"] = survival
+    out["suitability"] = development * survival
+
+    cold_s = mean(cold_free.astype(float))
+    heat_s = mean(heat_free.astype(float))
+    too_hot = mean(stats["mean_tmax"]) > dev.upper_threshold
+    dev_class = xr.where(too_hot, LIMITING_FACTOR_CLASSES.index("too_hot"),
+                         LIMITING_FACTOR_CLASSES.index("too_cool"))
+    lowest = xr.concat([development, cold_s, heat_s], dim="factor").fillna(2.0).argmin("factor")
+    code = xr.where(lowest == 0, dev_class,
+                    xr.where(lowest == 1, LIMITING_FACTOR_CLASSES.index("cold_kill"),
+                             LIMITING_FACTOR_CLASSES.index("heat_kill")))
+    code = xr.where(out["suitability"] >= 1.0, LIMITING_FACTOR_CLASSES.index("none"), code)
+    out["limiting_factor"] = xr.where(present, code, MISSING_CLASS).astype(np.uint8)
+
+    ds = xr.Dataset(out)
+    for name in ds.data_vars:
+        ds[name].attrs = layer_attrs(name)
+        if name != "limiting_factor":
+            ds[name] = ds[name].astype(np.float32, keep_attrs=True)
+    ds["limiting_factor"].encoding["_FillValue"] = MISSING_CLASS
+    ds.attrs.update(stats.attrs)
+    ds.attrs["seasons"] = int(stats.sizes["season_year"])
+    return ds
+
+
+def compute_layers(tmin: xr.DataArray, tmax: xr.DataArray, profile: Profile,
+                   years: tuple[int, int], *, label: str = "") -> xr.Dataset:
+    """Lazy output layers (dims ``y, x``) of one period; CRS copied from the input."""
+    stats = season_statistics(tmin, tmax, profile, years, label=label)
+    ds = period_layers(stats, profile)
+    crs = tmin.rio.crs
+    for c in ("x", "y"):
+        ds[c].attrs = dict(tmin[c].attrs)
+    if crs is not None:
+        ds = ds.rio.write_crs(crs)
+    ds.attrs["period"] = label
+    ds.attrs["years"] = f"{years[0]}-{years[1]}"
+    return ds

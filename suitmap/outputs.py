@@ -1,0 +1,184 @@
+"""Write a run's layers: GeoTIFF (COG), CF-NetCDF, PNG maps, a manifest.
+
+The whole output folder is built under a temporary sibling name and renamed
+into place only when every file is complete, so an interrupted or failed run
+leaves no partial output.  An existing output folder is replaced only when
+``overwrite=True``.
+
+Layout under ``output.dir``::
+
+    <period>/<layer>.tif, <layer>.png, layers.nc
+    <scenario>_vs_<baseline>/change_<layer>.tif, change_class.tif, ..., changes.nc
+    manifest.json
+    README.txt        what the folder holds and the screening-level caution
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+import json
+import os
+import shutil
+from pathlib import Path
+
+import xarray as xr
+
+from . import __version__
+from .errors import OutputError
+from .writers.cog import write_cog
+from .writers.figures import DEFAULT_CAUTION, plot_layer
+from .writers.manifest import Manifest
+from .writers.netcdf import write_netcdf
+
+CAUTION = (
+    "These layers are screening-level estimates from a thermal model and gridded climate. "
+    "They are not a basis for control decisions: consult your local plant-protection "
+    "authority and licensed practice."
+)
+
+
+def check_output_dir(out_dir: Path, overwrite: bool) -> None:
+    """Refuse an existing output folder unless ``overwrite``; check the parent exists."""
+    out_dir = Path(out_dir)
+    if out_dir.exists() and not overwrite:
+        raise OutputError(
+            f"output folder {out_dir} exists; pass --overwrite (overwrite=True) to replace it "
+            "or set another output.dir"
+        )
+    if out_dir.exists() and not out_dir.is_dir():
+        raise OutputError(f"output path {out_dir} is a file, not a folder; choose another output.dir")
+    parent = out_dir.parent
+    if not parent.is_dir():
+        raise OutputError(f"output folder {out_dir}: its parent {parent} does not exist; create it first")
+    if not os.access(parent, os.W_OK):
+        raise OutputError(f"output folder {out_dir}: {parent} is not writable; choose another output.dir")
+
+
+class staged_folder:
+    """Context manager: build a folder under a temporary name, then move it into place."""
+
+    def __init__(self, final: Path, overwrite: bool):
+        self.final = Path(final)
+        self.overwrite = overwrite
+        self.tmp = self.final.with_name(f".{self.final.name}.partial-{os.getpid()}")
+
+    def __enter__(self) -> Path:
+        check_output_dir(self.final, self.overwrite)
+        if self.tmp.exists():
+            shutil.rmtree(self.tmp)
+        self.tmp.mkdir()
+        return self.tmp
+
+    def __exit__(self, exc_type, exc, tb) -> bool:
+        if exc_type is not None:
+            shutil.rmtree(self.tmp, ignore_errors=True)
+            return False
+        old = None
+        if self.final.exists():
+            if not self.overwrite:  # appeared while we worked
+                shutil.rmtree(self.tmp, ignore_errors=True)
+                raise OutputError(f"output folder {self.final} appeared during the run; "
+                                  "not replaced (pass --overwrite)")
+            old = self.final.with_name(f".{self.final.name}.old-{os.getpid()}")
+            os.replace(self.final, old)
+        os.replace(self.tmp, self.final)
+        if old is not None:
+            shutil.rmtree(old, ignore_errors=True)
+        return False
+
+
+def _provenance(layers) -> dict:
+    run = layers.run
+    return {
+        "suitmap_version": __version__,
+        "run_file": str(run.path),
+        "profile_file": str(run.profile_path),
+        "profile": json.dumps(layers.profile.to_dict(), ensure_ascii=False),
+        "organism": layers.profile.organism.name,
+        "caution": CAUTION,
+    }
+
+
+def _history(run_path: Path) -> str:
+    now = _dt.datetime.now(_dt.timezone.utc).strftime("%Y-%m-%dT%H:%M:%SZ")
+    return f"{now}: suitmap {__version__} run {run_path.name}"
+
+
+def _write_group(ds: xr.Dataset, folder: Path, group: str, kind: str, formats, manifest: Manifest,
+                 history: str, prov: dict, inputs: str, organism: str) -> None:
+    folder.mkdir(parents=True, exist_ok=True)
+    for name in ds.data_vars:
+        da = ds[name]
+        if "geotiff" in formats:
+            p = write_cog(da, folder / f"{name}.tif", layer=name,
+                          tags={"period_or_comparison": group, "suitmap_version": __version__})
+            manifest.add(p, layer=name, period_or_comparison=group, format="geotiff")
+        if "png" in formats:
+            what = "period" if kind == "period" else "comparison"
+            title = f"{organism}: {name.replace('_', ' ')}\n{what} {group}"
+            p = plot_layer(da.rename(name), folder / f"{name}.png", title=title,
+                           caution=DEFAULT_CAUTION)
+            manifest.add(p, layer=name, period_or_comparison=group, format="png")
+    if "netcdf" in formats:
+        fname = "layers.nc" if kind == "period" else "changes.nc"
+        title = (f"suitmap layers for {organism}, period {group}" if kind == "period"
+                 else f"suitmap change layers for {organism}, {group}")
+        extra = dict(prov)
+        extra.update({"inputs": inputs, kind: group})
+        extra.update({k: v for k, v in ds.attrs.items() if isinstance(v, (str, int, float))})
+        p = write_netcdf(ds, folder / fname, title=title, history=history,
+                         source=f"suitmap {__version__}", extra_attrs=extra)
+        manifest.add(p, layer="all", period_or_comparison=group, format="netcdf")
+
+
+def write_outputs(layers, *, overwrite: bool = False) -> Path:
+    """Write computed :class:`~suitmap.pipeline.RunLayers` into ``output.dir``.
+
+    Returns the path of ``manifest.json``.
+    """
+    run = layers.run
+    final = run.output.dir
+    formats = run.output.formats
+    prov = _provenance(layers)
+    history = _history(run.path)
+    organism = layers.profile.organism.name
+    with staged_folder(final, overwrite) as tmp:
+        manifest = Manifest(tmp, attrs=prov)
+        for name, ds in layers.periods.items():
+            files = layers.inputs.get(name, {})
+            inputs = "; ".join(Path(f).name for role in ("tmin", "tmax") for f in files.get(role, []))
+            _write_group(ds, tmp / name, name, "period", formats, manifest, history, prov,
+                         inputs, organism)
+        for name, ds in layers.comparisons.items():
+            inputs = "; ".join(f"{k}: " + ", ".join(Path(f).name for f in v.get("tmin", []) + v.get("tmax", []))
+                               for k, v in layers.inputs.items()
+                               if k in (ds.attrs.get("baseline"), ds.attrs.get("scenario")))
+            _write_group(ds, tmp / name, name, "comparison", formats, manifest, history, prov,
+                         inputs, organism)
+        readme = tmp / "README.txt"
+        readme.write_text(_readme_text(layers), encoding="utf-8")
+        manifest.add(readme, layer="readme", period_or_comparison="all", format="text")
+        manifest.write(tmp / "manifest.json")
+    return final / "manifest.json"
+
+
+def _readme_text(layers) -> str:
+    run = layers.run
+    lines = [
+        f"suitmap {__version__} outputs for {layers.profile.organism.name}",
+        f"run file: {run.path}",
+        "",
+        "CAUTION: " + CAUTION,
+        "",
+        "periods:",
+    ]
+    for p in run.periods:
+        ds = layers.periods[p.name]
+        lines.append(f"  {p.name}: years {p.years[0]}-{p.years[1]}, {ds.attrs.get('seasons')} season-years, "
+                     f"calendar {ds.attrs.get('calendar')}")
+    if layers.comparisons:
+        lines.append("comparisons (scenario minus baseline):")
+        lines.extend(f"  {c}" for c in layers.comparisons)
+    lines += ["", "Each folder holds one GeoTIFF (COG) and one PNG per layer and one CF-NetCDF",
+              "with all layers; manifest.json lists every file with its SHA-256.", ""]
+    return "\n".join(lines)

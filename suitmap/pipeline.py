@@ -1,0 +1,187 @@
+"""The analysis of one run file, as plain functions the CLI and notebooks share.
+
+    open_period   climate of one period, normalised, limited to its years
+    check_run     QA of every input without computing layers
+    compute_run   lazy layers of every period and every comparison
+    run           compute and write everything (see :mod:`suitmap.outputs`)
+"""
+
+from __future__ import annotations
+
+import math
+import warnings
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+import xarray as xr
+
+from . import climate
+from .compare import compare
+from .errors import InputError
+from .layers import compute_layers, season_windows
+from .profile import Profile, load_profile
+from .runfile import Period, RunFile, load_run
+
+#: Target size (bytes) of one spatial chunk of one daily variable in float32.
+CHUNK_BYTES = 32 * 2**20
+
+
+def chunk_side(n_days: int, chunk_cells: int | None = None) -> int:
+    """Side (cells) of the square spatial chunks: one chunk of one variable
+    over the whole time axis stays near :data:`CHUNK_BYTES`."""
+    if chunk_cells:
+        return max(1, int(math.isqrt(chunk_cells)))
+    return max(8, int(math.isqrt(CHUNK_BYTES // (4 * max(n_days, 1)))))
+
+
+@dataclass
+class PeriodClimate:
+    period: Period
+    tmin: xr.DataArray
+    tmax: xr.DataArray
+    swapped: int
+    qa: "climate.ClimateQA | None" = None
+    files: dict[str, list[str]] = field(default_factory=dict)
+
+
+def _as_run(run: RunFile | str | Path) -> RunFile:
+    return run if isinstance(run, RunFile) else load_run(run)
+
+
+def open_period(period: Period, profile: Profile, *, chunk_cells: int | None = None,
+                qa: bool = False) -> PeriodClimate:
+    """Open, check and normalise the daily Tmin/Tmax of one period.
+
+    The data are limited to the period's years (plus the following year
+    where a season wraps the new year), swapped where Tmin > Tmax (with a
+    warning) and re-chunked: the whole time axis in one chunk, square spatial
+    chunks (see :func:`chunk_side`).
+    """
+    arrays = {}
+    files = {}
+    for role in ("tmin", "tmax"):
+        src = getattr(period, role)
+        paths: list[Path] = []
+        for pattern in src.patterns:
+            paths.extend(climate.resolve_paths(pattern, what=f"{period.name} {role}"))
+        files[role] = [str(p) for p in paths]
+        da = climate.open_climate(paths, role, variable=src.variable, label=period.name)
+        first, last = period.years
+        climate.select_years(da, first, last, label=f"{period.name} {role}")
+        north, south, _ = season_windows(profile)
+        extra = 1 if (north.wraps or south.wraps) else 0
+        years = da["time"].dt.year
+        da = da.isel(time=np.flatnonzero(((years >= first) & (years <= last + extra)).values))
+        arrays[role] = da
+    tmin, tmax = arrays["tmin"], arrays["tmax"]
+    climate.check_same_grid(tmin, tmax, f"{period.name} tmin", f"{period.name} tmax")
+    if tmin.sizes["time"] != tmax.sizes["time"] or not np.array_equal(
+            tmin["time"].values, tmax["time"].values):
+        raise InputError(
+            f"{period.name}: tmin and tmax files hold different days "
+            f"({tmin.sizes['time']} vs {tmax.sizes['time']}); give files covering the same dates"
+        )
+    side = chunk_side(tmin.sizes["time"], chunk_cells)
+    chunks = {"time": -1, "y": side, "x": side}
+    tmin = tmin.chunk(chunks)
+    tmax = tmax.chunk(chunks)
+    report = climate.qa_summary(tmin, tmax, period.name) if qa else None
+    tmin, tmax, swapped = climate.repair_tmin_tmax(tmin, tmax)
+    return PeriodClimate(period, tmin, tmax, swapped, report, files)
+
+
+def check_run(run: RunFile | str | Path) -> tuple[RunFile, Profile, list[PeriodClimate]]:
+    """Read every input a run file names and summarise it, computing no layers.
+
+    Raises a :class:`~suitmap.errors.SuitmapError` on the first unusable input.
+    """
+    run = _as_run(run)
+    profile = load_profile(run.profile_path)
+    opened = []
+    for period in run.periods:
+        pc = open_period(period, profile, chunk_cells=run.chunk_cells, qa=True)
+        opened.append(pc)
+    base = opened[0]
+    for pc in opened[1:]:
+        climate.check_same_grid(base.tmin, pc.tmin, f"baseline '{base.period.name}'",
+                                f"scenario '{pc.period.name}'")
+    return run, profile, opened
+
+
+@dataclass
+class RunLayers:
+    """Lazy results of a run: layers per period and per comparison."""
+
+    run: RunFile
+    profile: Profile
+    periods: dict[str, xr.Dataset]
+    comparisons: dict[str, xr.Dataset]
+    inputs: dict[str, dict[str, list[str]]]
+
+    def compute(self, progress: bool = False) -> "RunLayers":
+        """Compute every layer (one dask pass) and return the loaded results."""
+        import dask
+
+        names_p = list(self.periods)
+        names_c = list(self.comparisons)
+        items = [self.periods[n] for n in names_p] + [self.comparisons[n] for n in names_c]
+        if progress:
+            from tqdm.dask import TqdmCallback
+
+            with TqdmCallback(desc="computing layers", leave=False):
+                done = dask.compute(*items)
+        else:
+            done = dask.compute(*items)
+        periods = dict(zip(names_p, done[: len(names_p)]))
+        comps = dict(zip(names_c, done[len(names_p):]))
+        return RunLayers(self.run, self.profile, periods, comps, self.inputs)
+
+
+def comparison_name(scenario: str, baseline: str) -> str:
+    return f"{scenario}_vs_{baseline}"
+
+
+def compute_run(run: RunFile | str | Path) -> RunLayers:
+    """Lazy layers of every period and comparison of a run file."""
+    run = _as_run(run)
+    profile = load_profile(run.profile_path)
+    periods: dict[str, xr.Dataset] = {}
+    inputs: dict[str, dict[str, list[str]]] = {}
+    base_clim = None
+    for period in run.periods:
+        pc = open_period(period, profile, chunk_cells=run.chunk_cells)
+        if base_clim is None:
+            base_clim = pc
+        else:
+            climate.check_same_grid(base_clim.tmin, pc.tmin, f"baseline '{base_clim.period.name}'",
+                                    f"scenario '{period.name}'")
+        ds = compute_layers(pc.tmin, pc.tmax, profile, period.years, label=period.name)
+        ds.attrs["tmin_tmax_swapped_cell_days"] = pc.swapped
+        periods[period.name] = ds
+        inputs[period.name] = pc.files
+    comps = {}
+    base = periods[run.baseline.name]
+    for scen in run.scenarios:
+        comps[comparison_name(scen.name, run.baseline.name)] = compare(
+            base, periods[scen.name], suitable_level=run.output.suitable_level)
+    return RunLayers(run, profile, periods, comps, inputs)
+
+
+def run(run: RunFile | str | Path, *, overwrite: bool = False, progress: bool = False) -> Path:
+    """Compute every layer of a run file and write all outputs.
+
+    The output folder is checked before any computation (an existing one is
+    refused unless ``overwrite``) and appears only when complete.
+
+    Returns
+    -------
+    pathlib.Path
+        The ``manifest.json`` of the written outputs.
+    """
+    from .outputs import check_output_dir, write_outputs
+
+    run = _as_run(run)
+    check_output_dir(run.output.dir, overwrite)
+    layers = compute_run(run).compute(progress=progress)
+    return write_outputs(layers, overwrite=overwrite)

@@ -1,0 +1,191 @@
+"""Run files: which climate, which organism, which outputs.
+
+A run file is TOML (see README, "Run file").  Relative paths resolve against
+the run file's folder.  Validation is complete and every error names the key.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+from ._toml import read_toml
+from .errors import RunFileError
+
+FORMATS = ("geotiff", "netcdf", "png")
+_NAME = re.compile(r"^[A-Za-z0-9][A-Za-z0-9_.\-]*$")
+
+
+@dataclass(frozen=True)
+class ClimateSource:
+    """One variable of one period: file patterns and an optional variable name."""
+
+    patterns: tuple[str, ...]
+    variable: str | None = None
+
+
+@dataclass(frozen=True)
+class Period:
+    name: str
+    years: tuple[int, int]
+    tmin: ClimateSource
+    tmax: ClimateSource
+    kind: str = "scenario"  # "baseline" or "scenario"
+
+
+@dataclass(frozen=True)
+class Output:
+    dir: Path
+    formats: tuple[str, ...] = FORMATS
+    suitable_level: float = 0.5
+
+
+@dataclass(frozen=True)
+class RunFile:
+    path: Path
+    profile_path: Path
+    baseline: Period
+    scenarios: tuple[Period, ...]
+    output: Output
+    chunk_cells: int | None = None
+    raw: dict[str, Any] = field(default_factory=dict, compare=False, repr=False)
+
+    @property
+    def base_dir(self) -> Path:
+        return self.path.parent
+
+    @property
+    def periods(self) -> tuple[Period, ...]:
+        return (self.baseline, *self.scenarios)
+
+
+def _keys(table: dict, allowed: tuple[str, ...], where: str, name: str) -> None:
+    for key in table:
+        if key not in allowed:
+            raise RunFileError(
+                f"{where}: unknown key {name}.{key}; allowed keys are {', '.join(allowed)}"
+            )
+
+
+def _resolve(base: Path, p: str) -> str:
+    pp = Path(p).expanduser()
+    return str(pp if pp.is_absolute() else base / pp)
+
+
+def _source(value: Any, key: str, base: Path, where: str) -> ClimateSource:
+    variable = None
+    if isinstance(value, dict):
+        _keys(value, ("files", "variable"), where, key)
+        if "files" not in value:
+            raise RunFileError(f"{where}: {key} needs a 'files' key (a glob or list of globs)")
+        variable = value.get("variable")
+        if variable is not None and not isinstance(variable, str):
+            raise RunFileError(f"{where}: {key}.variable must be a string")
+        value = value["files"]
+    if isinstance(value, str):
+        value = [value]
+    if not (isinstance(value, list) and value and all(isinstance(v, str) for v in value)):
+        raise RunFileError(f"{where}: {key} must be a file glob, a list of globs, or a table "
+                           "{{files = ..., variable = ...}}")
+    return ClimateSource(tuple(_resolve(base, v) for v in value), variable)
+
+
+def _period(table: Any, name_key: str, base: Path, where: str, kind: str,
+            default_name: str | None = None) -> Period:
+    if not isinstance(table, dict):
+        raise RunFileError(f"{where}: [{name_key}] must be a table")
+    _keys(table, ("name", "years", "tmin", "tmax"), where, name_key)
+    name = table.get("name", default_name)
+    if not isinstance(name, str) or not _NAME.match(name):
+        raise RunFileError(
+            f"{where}: {name_key}.name must be a short name of letters, digits, '-', '_' or '.', "
+            f"got {name!r}"
+        )
+    years = table.get("years")
+    if (not isinstance(years, list) or len(years) != 2
+            or not all(isinstance(y, int) and not isinstance(y, bool) for y in years)):
+        raise RunFileError(f"{where}: {name_key}.years must be [first, last], e.g. [1991, 2020]")
+    if years[0] > years[1]:
+        raise RunFileError(f"{where}: {name_key}.years first year {years[0]} is after last {years[1]}")
+    for var in ("tmin", "tmax"):
+        if var not in table:
+            raise RunFileError(f"{where}: missing key {name_key}.{var} (daily {var} files)")
+    return Period(
+        name=name,
+        years=(years[0], years[1]),
+        tmin=_source(table["tmin"], f"{name_key}.tmin", base, where),
+        tmax=_source(table["tmax"], f"{name_key}.tmax", base, where),
+        kind=kind,
+    )
+
+
+def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
+    """Validate a run file given as a dict; ``path`` anchors relative paths."""
+    where = f"run file {path}"
+    base = path.parent
+    _keys(raw, ("profile", "baseline", "scenario", "output", "compute"), where, "")
+    prof = raw.get("profile")
+    if not isinstance(prof, dict) or not isinstance(prof.get("path"), str):
+        raise RunFileError(f"{where}: needs [profile] with path = \"<organism profile .toml>\"")
+    _keys(prof, ("path",), where, "profile")
+    if "baseline" not in raw:
+        raise RunFileError(f"{where}: missing table [baseline]")
+    baseline = _period(raw["baseline"], "baseline", base, where, "baseline", "baseline")
+    scen_raw = raw.get("scenario", [])
+    if isinstance(scen_raw, dict):
+        scen_raw = [scen_raw]
+    if not isinstance(scen_raw, list):
+        raise RunFileError(f"{where}: [[scenario]] must be an array of tables")
+    scenarios = tuple(
+        _period(s, f"scenario[{i}]", base, where, "scenario") for i, s in enumerate(scen_raw)
+    )
+    names = [baseline.name] + [s.name for s in scenarios]
+    dupes = sorted({n for n in names if names.count(n) > 1})
+    if dupes:
+        raise RunFileError(f"{where}: period names must be unique; repeated: {', '.join(dupes)}")
+
+    out = raw.get("output", {})
+    if not isinstance(out, dict):
+        raise RunFileError(f"{where}: [output] must be a table")
+    _keys(out, ("dir", "formats", "suitable_level"), where, "output")
+    out_dir = out.get("dir", "results")
+    if not isinstance(out_dir, str) or not out_dir:
+        raise RunFileError(f"{where}: output.dir must be a folder name")
+    formats = out.get("formats", list(FORMATS))
+    if not isinstance(formats, list) or not all(isinstance(f, str) for f in formats):
+        raise RunFileError(f"{where}: output.formats must be a list, e.g. [\"geotiff\", \"netcdf\"]")
+    for f in formats:
+        if f not in FORMATS:
+            raise RunFileError(
+                f"{where}: output.formats has unknown format {f!r}; choose from {', '.join(FORMATS)}"
+            )
+    level = out.get("suitable_level", 0.5)
+    if isinstance(level, bool) or not isinstance(level, (int, float)) or not 0 < level <= 1:
+        raise RunFileError(f"{where}: output.suitable_level must be a number in (0, 1]")
+    output = Output(Path(_resolve(base, out_dir)), tuple(dict.fromkeys(formats)), float(level))
+
+    compute = raw.get("compute", {})
+    if not isinstance(compute, dict):
+        raise RunFileError(f"{where}: [compute] must be a table")
+    _keys(compute, ("chunk_cells",), where, "compute")
+    chunk = compute.get("chunk_cells")
+    if chunk is not None and (isinstance(chunk, bool) or not isinstance(chunk, int) or chunk < 1):
+        raise RunFileError(f"{where}: compute.chunk_cells must be a positive whole number")
+
+    return RunFile(path=path, profile_path=Path(_resolve(base, prof["path"])), baseline=baseline,
+                   scenarios=scenarios, output=output, chunk_cells=chunk, raw=raw)
+
+
+def load_run(path: str | Path) -> RunFile:
+    """Read and validate a run file.
+
+    Raises
+    ------
+    RunFileError
+        With a one-line message naming the file and the offending key.
+    """
+    path = Path(path).expanduser().resolve()
+    raw = read_toml(path, RunFileError, "run file")
+    return runfile_from_dict(raw, path)
