@@ -89,6 +89,8 @@ def _write(path: Path, name: str, data: np.ndarray, times, calendar: str, units:
         da.attrs["standard_name"] = "air_temperature"
         da.attrs["cell_methods"] = f"time: {'minimum' if which == 'tmin' else 'maximum'}"
     ds = da.to_dataset().rio.write_crs("EPSG:4326")  # CF grid_mapping variable
+    ds[name].encoding.pop("grid_mapping", None)
+    ds[name].attrs["grid_mapping"] = "spatial_ref"
     ds.attrs = {"title": "Invented sample climate of the Karsvale Uplands (suitmap demo)",
                 "comment": "Invented data for demonstration only; describes no real place or model.",
                 "Conventions": "CF-1.8"}

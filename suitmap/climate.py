@@ -1,0 +1,577 @@
+"""Open daily Tmin/Tmax grids (NetCDF, GeoTIFF) lazily and normalise them.
+
+Every array :func:`open_climate` returns follows one convention:
+
+* dims ``("time", "y", "x")``, ``y`` descending (north-up), ``x`` ascending,
+  cell-centre coordinates on a regular grid; geographic longitudes in −180…180
+  (0…360 kept, with a warning, only for grids that cross the antimeridian);
+* float32 °C (``units = "degC"``), dask-backed, time in one chunk, spatial
+  chunks of 256 (see ``chunks``); CRS, spatial dims and transform set with rioxarray;
+* attrs ``suitmap_role``, ``source_files`` ('; '-joined names), ``source_variable``,
+  ``original_units`` and ``calendar`` (CF name; ``gregorian`` → ``standard``,
+  ``365_day`` → ``noleap``, ``366_day`` → ``all_leap``);
+* time: ``standard`` and ``proleptic_gregorian`` give ``datetime64[ns]`` (xarray's
+  default decoding), all other calendars cftime objects; both have ``.dt.year``,
+  ``.dt.dayofyear``, ``.dt.month``, ``.dt.day``.  Only daily data without gaps.
+
+NetCDF: the variable is ``variable`` if given, else the one with
+``standard_name = air_temperature`` and ``cell_methods`` ``time: minimum`` (or
+``maximum``), else a common name (``COMMON_NAMES``).  ``units`` must be a kelvin,
+°C or °F spelling; anything else is an error, never a guess.  Packing and
+``_FillValue`` are decoded; a CF grid mapping is read with rioxarray; a
+latitude/longitude grid without one is taken as EPSG:4326 with a SuitmapWarning.
+
+GeoTIFF (``.tif``/``.tiff``): one band per day.  Band dates come from, in order:
+the band descriptions (ISO ``YYYY-MM-DD``), a band tag ``DATE=YYYY-MM-DD``, or a
+sidecar ``<stem>.dates.txt`` (or ``<name>.tif.dates.txt``) beside the raster with
+one ISO date per line in band order (blank and ``#`` lines skipped).  Units come
+from the dataset tag ``units`` (else a ``units`` band tag or GDAL band unit
+shared by all bands).  The calendar is ``standard`` unless a dataset tag
+``calendar`` names another CF calendar.  nodata becomes NaN; scales/offsets apply.
+
+Several files (of either kind) are sorted by their first day and joined on time.
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+import glob
+import os
+import re
+import warnings
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import cftime
+import dask
+import numpy as np
+import rasterio
+import rioxarray  # noqa: F401  (registers the .rio accessor)
+import xarray as xr
+from pyproj import CRS
+
+from suitmap.errors import GridMismatch, InputError, SuitmapWarning
+
+__all__ = ["COMMON_NAMES", "DEFAULT_CHUNKS", "ClimateQA", "check_same_grid", "open_climate",
+           "qa_summary", "repair_tmin_tmax", "resolve_paths", "select_years"]
+
+DEFAULT_CHUNKS = {"y": 256, "x": 256}
+ROLES = ("tmin", "tmax")
+NETCDF_SUFFIXES = (".nc", ".nc4", ".netcdf", ".cdf")
+GEOTIFF_SUFFIXES = (".tif", ".tiff")
+COMMON_NAMES = {
+    "tmin": ("tasmin", "tmin", "tn", "mn2t", "mn2t24", "t2m_min", "t2min", "tmn",
+             "minimum_temperature", "min_temperature", "temperature_min", "air_temperature_min"),
+    "tmax": ("tasmax", "tmax", "tx", "mx2t", "mx2t24", "t2m_max", "t2max", "tmx",
+             "maximum_temperature", "max_temperature", "temperature_max", "air_temperature_max"),
+}
+_CELL_METHOD = {"tmin": re.compile(r"time\s*:\s*min(imum)?\b"), "tmax": re.compile(r"time\s*:\s*max(imum)?\b")}
+_UNIT_SPELLINGS = {  # lower case, spaces as "_"
+    "K": ("k", "kelvin", "kelvins", "degk", "deg_k", "degree_k", "degrees_k", "°k"),
+    "degC": ("degc", "deg_c", "°c", "c", "celsius", "degree_c", "degrees_c", "degree_celsius", "degrees_celsius"),
+    "degF": ("degf", "deg_f", "°f", "f", "fahrenheit", "degree_f", "degrees_f", "degree_fahrenheit",
+             "degrees_fahrenheit")}
+_CALENDARS = {"standard": "standard", "gregorian": "standard", "proleptic_gregorian": "proleptic_gregorian",
+              "noleap": "noleap", "365_day": "noleap", "all_leap": "all_leap", "366_day": "all_leap",
+              "360_day": "360_day", "julian": "julian"}
+_CFTIME_TYPES = {"noleap": cftime.DatetimeNoLeap, "all_leap": cftime.DatetimeAllLeap,
+                 "360_day": cftime.Datetime360Day, "julian": cftime.DatetimeJulian}
+_X_NAMES = ("x", "lon", "longitude", "long")
+_Y_NAMES = ("y", "lat", "latitude")
+_GEO_NAMES = ("lon", "longitude", "long", "lat", "latitude")
+_GEO_UNITS = re.compile(r"^degrees?_?(east|north|e|n)?$")
+_ISO_DATE = re.compile(r"^\s*(-?\d{1,4})-(\d{1,2})-(\d{1,2})(?:[T ][0-9:.]*)?\s*$")
+_TOL = 1e-3  # coordinate tolerance, as a fraction of the cell size
+
+
+# --------------------------------------------------------------------------- paths
+def resolve_paths(pattern, base_dir=None, *, what: str = "input") -> list[Path]:
+    """Expand a path, a glob pattern or a list of them into sorted existing files.
+
+    Relative patterns are taken relative to ``base_dir`` (default: the working
+    directory); ``~`` is expanded and ``**`` matches folders recursively.
+    Raises :class:`InputError` when a pattern matches no file.
+    """
+    base = Path(base_dir).expanduser() if base_dir is not None else Path.cwd()
+    patterns = list(pattern) if isinstance(pattern, (list, tuple)) else [pattern]
+    if not patterns:
+        raise InputError(f"no {what} file given; name at least one file or glob pattern")
+    found: set[Path] = set()
+    for pat in patterns:
+        p = Path(os.fspath(pat)).expanduser()
+        full = p if p.is_absolute() else base / p
+        hits = [Path(h) for h in glob.glob(str(full), recursive=True) if Path(h).is_file()]
+        if not hits:
+            where = "" if p.is_absolute() else f" (looked in {base})"
+            raise InputError(f"no {what} file matches '{os.fspath(pat)}'{where}; "
+                             "check the path or glob pattern in the run file")
+        found.update(hits)
+    return sorted(found)
+
+
+# --------------------------------------------------------------------------- units
+def _canonical_units(units, where: str) -> str:
+    if units is None or str(units).strip() == "":
+        raise InputError(f"{where} has no units attribute; add units = 'K', 'degC' or 'degF' to the file")
+    key = str(units).strip().lower().replace("º", "°").replace(" ", "_")
+    for canon, spellings in _UNIT_SPELLINGS.items():
+        if key in spellings:
+            return canon
+    raise InputError(f"{where} has units '{units}', not a temperature in K, degC or degF; "
+                     "fix the units attribute (suitmap never guesses units)")
+
+
+def _to_celsius(da: xr.DataArray, canon: str) -> xr.DataArray:
+    x = da.astype("float64")
+    if canon == "K":
+        x = x - 273.15  # t/°C = T/K − 273.15 (SI Brochure, 9th ed., 2019)
+    elif canon == "degF":
+        x = (x - 32.0) / 1.8  # t/°F = 1.8 t/°C + 32 (NIST SP 811, 2008)
+    return x.astype("float32")
+
+
+def _canonical_calendar(name, where: str) -> str:
+    key = str(name or "standard").strip().lower()
+    if key not in _CALENDARS:
+        raise InputError(f"{where} uses calendar '{name}', which suitmap does not know; "
+                         f"use one of {', '.join(sorted(_CALENDARS))}")
+    return _CALENDARS[key]
+
+
+# --------------------------------------------------------------------------- NetCDF
+def _pick_variable(ds: xr.Dataset, role: str, variable, path: Path) -> str:
+    present = [str(v) for v in ds.data_vars]
+    listing = ", ".join(present) or "none"
+    if variable is not None:
+        if variable not in ds.data_vars:
+            raise InputError(f"{path.name} has no variable '{variable}' (data variables: {listing}); "
+                             "set variable = ... in the run file to one of these")
+        return variable
+    cf = [v for v in present if ds[v].attrs.get("standard_name") == "air_temperature"
+          and _CELL_METHOD[role].search(str(ds[v].attrs.get("cell_methods", "")))]
+    if len(cf) == 1:
+        return cf[0]
+    by_name = {v.lower(): v for v in (cf or present)}
+    for name in COMMON_NAMES[role]:
+        if name in by_name:
+            return by_name[name]
+    if len(cf) > 1:
+        raise InputError(f"{path.name}: several variables could be {role} ({', '.join(cf)}); "
+                         "set variable = ... in the run file")
+    raise InputError(f"{path.name}: no {role} variable found (data variables: {listing}); "
+                     "set variable = ... in the run file")
+
+
+def _spatial_dim(da: xr.DataArray, names, std_names, axis: str, where: str) -> str:
+    for d in da.dims:
+        if str(d).lower() in names:
+            return str(d)
+    for d in da.dims:
+        attrs = da[d].attrs if d in da.coords else {}
+        if attrs.get("standard_name") in std_names or str(attrs.get("axis", "")).upper() == axis:
+            return str(d)
+    raise InputError(f"{where}: cannot tell which dimension is {axis} among {tuple(map(str, da.dims))}; "
+                     f"name it {' or '.join(names[:3])}")
+
+
+def _open_netcdf(path: Path, role: str, variable, cy, cx) -> dict:
+    try:
+        ds = xr.open_dataset(path, engine="netcdf4", decode_coords="all", mask_and_scale=True, cache=False)
+    except Exception as exc:  # netCDF4/xarray raise many kinds
+        raise InputError(f"cannot read {path} as NetCDF ({exc}); check the file") from exc
+    name = _pick_variable(ds, role, variable, path)
+    da = ds[name]
+    where = f"{path.name}, variable '{name}'"
+    tdims = [d for d in da.dims if d in da.coords and da[d].size and (
+        np.issubdtype(da[d].dtype, np.datetime64) or isinstance(da[d].values.flat[0], cftime.datetime))]
+    if not tdims:
+        raise InputError(f"{where} has no decodable time dimension; daily data with a CF time axis is needed")
+    tdim = str(tdims[0])
+    xdim = _spatial_dim(da, _X_NAMES, ("longitude", "projection_x_coordinate", "grid_longitude"), "X", where)
+    ydim = _spatial_dim(da, _Y_NAMES, ("latitude", "projection_y_coordinate", "grid_latitude"), "Y", where)
+    geo_names = any(
+        str(d).lower() in _GEO_NAMES or da[d].attrs.get("standard_name") in ("longitude", "latitude")
+        or _GEO_UNITS.match(str(da[d].attrs.get("units", "")).lower()) is not None
+        for d in (xdim, ydim))
+    try:
+        crs = da.rio.crs
+    except Exception as exc:
+        raise InputError(f"{where}: its grid mapping cannot be read ({exc}); fix the CF grid_mapping") from exc
+    tcoord = da[tdim]
+    cal = tcoord.encoding.get("calendar") or (
+        tcoord.values.flat[0].calendar if tcoord.dtype == object else "standard")
+    da = da.chunk({tdim: -1, ydim: cy, xdim: cx})
+    return dict(da=da, dims=(tdim, ydim, xdim), crs=crs, geo_names=geo_names, path=path,
+                variable=name, units=da.attrs.get("units"), where=where,
+                calendar=_canonical_calendar(cal, where))
+
+
+# --------------------------------------------------------------------------- GeoTIFF
+def _geotiff_dates(path: Path, n: int, descriptions, band_tags) -> list[str]:
+    if all(d and _ISO_DATE.match(d) for d in descriptions):
+        return list(descriptions)
+    tagged = [next((v for k, v in t.items() if k.lower() == "date"), None) for t in band_tags]
+    if all(d and _ISO_DATE.match(d) for d in tagged):
+        return tagged
+    side = next((c for c in (path.with_suffix(".dates.txt"), path.with_name(path.name + ".dates.txt"))
+                 if c.is_file()), None)
+    if side is None:
+        raise InputError(f"{path.name}: no band dates found (band descriptions, DATE band tags or "
+                         f"{path.stem}.dates.txt); give each band its ISO date YYYY-MM-DD")
+    lines = [ln.strip() for ln in side.read_text(encoding="utf-8").splitlines()
+             if ln.strip() and not ln.strip().startswith("#")]
+    if len(lines) != n:
+        raise InputError(f"{side.name} lists {len(lines)} dates but {path.name} has {n} bands; "
+                         "write one ISO date per band")
+    return lines
+
+
+def _parse_dates(texts, calendar: str, where: str) -> np.ndarray:
+    out = []
+    for t in texts:
+        m = _ISO_DATE.match(t or "")
+        try:
+            if m is None:
+                raise ValueError("not an ISO date")
+            y, mo, d = (int(g) for g in m.groups())
+            if calendar in ("standard", "proleptic_gregorian"):
+                out.append(np.datetime64(_dt.date(y, mo, d), "ns"))
+            else:
+                out.append(_CFTIME_TYPES[calendar](y, mo, d))
+        except ValueError as exc:
+            raise InputError(f"{where}: date '{t}' is not a valid YYYY-MM-DD day in the "
+                             f"{calendar} calendar ({exc}); fix the band dates") from exc
+    return np.array(out, dtype="datetime64[ns]" if calendar in ("standard", "proleptic_gregorian") else object)
+
+
+def _open_geotiff(path: Path, cy, cx) -> dict:
+    try:
+        with rasterio.open(path) as src:
+            n, descriptions, band_units = src.count, src.descriptions, src.units
+            ds_tags = {k.lower(): v for k, v in src.tags().items()}
+            band_tags = [src.tags(i) for i in range(1, n + 1)]
+            crs = src.crs
+    except rasterio.errors.RasterioIOError as exc:
+        raise InputError(f"cannot read {path} as GeoTIFF ({exc}); check the file") from exc
+    where = f"{path.name} (GeoTIFF)"
+    units = ds_tags.get("units")
+    for shared in ({next((v for k, v in t.items() if k.lower() == "units"), None) for t in band_tags},
+                   set(band_units)):
+        units = units or (shared.pop() if len(shared) == 1 else None)
+    _canonical_units(units, where)
+    calendar = _canonical_calendar(ds_tags.get("calendar"), where)
+    times = _parse_dates(_geotiff_dates(path, n, descriptions, band_tags), calendar, where)
+    da = rioxarray.open_rasterio(path, chunks={"band": -1, "y": cy, "x": cx}, mask_and_scale=True)
+    da = da.rename(band="time").assign_coords(time=times)
+    return dict(da=da, dims=("time", "y", "x"), crs=crs, geo_names=False, path=path,
+                variable="bands", units=units, where=where, calendar=calendar)
+
+
+# --------------------------------------------------------------------------- normalise
+def _regular(values: np.ndarray) -> bool:
+    steps = np.diff(values)
+    return steps.size == 0 or bool(np.allclose(steps, steps[0], rtol=_TOL, atol=0))
+
+
+def _normalise(p: dict) -> tuple[xr.DataArray, CRS]:
+    da, where = p["da"], p["where"]
+    tdim, ydim, xdim = p["dims"]
+    da = da.reset_coords(drop=True)
+    da = da.rename({k: v for k, v in zip((tdim, ydim, xdim), ("time", "y", "x")) if k != v})
+    extra = [d for d in da.dims if d not in ("time", "y", "x")]
+    if any(da.sizes[d] != 1 for d in extra):
+        raise InputError(f"{where} has extra dimensions {extra}; keep only time, y and x (one level)")
+    da = da.squeeze(extra, drop=True).transpose("time", "y", "x")
+    if da.sizes["y"] < 2 or da.sizes["x"] < 2:
+        raise InputError(f"{where}: the grid needs at least 2 cells along x and along y")
+    da = _to_celsius(da, _canonical_units(p["units"], where))
+    if p["crs"] is None:
+        if not p["geo_names"]:
+            raise InputError(f"{where} has no CRS and no latitude/longitude coordinates; "
+                             "add a CF grid_mapping (NetCDF) or a CRS (GeoTIFF)")
+        warnings.warn(f"{where}: no grid mapping, latitude/longitude taken as EPSG:4326 (WGS 84)",
+                      SuitmapWarning, stacklevel=3)
+        crs = CRS.from_epsg(4326)
+    else:
+        crs = CRS.from_wkt(p["crs"].to_wkt())
+    da = da.assign_coords(x=da["x"].values.astype("float64"), y=da["y"].values.astype("float64"))
+    x = da["x"].values
+    if crs.is_geographic and x.max() > 180.0:
+        wrapped = (x + 180.0) % 360.0 - 180.0
+        order = np.argsort(wrapped, kind="stable")
+        if _regular(wrapped[order]):
+            da = da.isel(x=order).assign_coords(x=wrapped[order])
+        elif _regular(np.sort(x)):
+            warnings.warn(f"{where}: the grid crosses the antimeridian, longitudes kept in 0–360",
+                          SuitmapWarning, stacklevel=3)
+    for dim, ascending in (("y", False), ("x", True)):
+        vals = da[dim].values
+        if not _regular(vals) or np.any(np.diff(vals) == 0):
+            raise InputError(f"{where}: {dim} coordinates are not evenly spaced; regrid to a regular grid")
+        if (vals[-1] > vals[0]) != ascending:
+            da = da.isel({dim: slice(None, None, -1)})
+    return da, crs
+
+
+def _days(times: np.ndarray) -> np.ndarray:
+    if np.issubdtype(times.dtype, np.datetime64):
+        return (times - times[0]) / np.timedelta64(1, "D")
+    return np.array([(t - times[0]).total_seconds() / 86400.0 for t in times])
+
+
+def _iso(t) -> str:
+    return str(np.datetime64(t, "D")) if isinstance(t, np.datetime64) else t.strftime("%Y-%m-%d")
+
+
+def _check_daily(times: np.ndarray, what: str) -> None:
+    if times.size < 2:
+        return
+    steps = np.diff(_days(times))
+    if np.any(steps <= 0):
+        i = int(np.argmax(steps <= 0))
+        raise InputError(f"{what}: day {_iso(times[i + 1])} appears twice or out of order (overlapping files?); "
+                         "give each day once")
+    typical = float(np.median(steps))
+    if abs(typical - 1.0) > _TOL:
+        raise InputError(f"{what}: time step is {typical:g} days; daily data is needed (one value per day)")
+    bad = np.flatnonzero(np.abs(steps - 1.0) > _TOL)
+    if bad.size:
+        i = int(bad[0])
+        raise InputError(f"{what}: days missing between {_iso(times[i])} and {_iso(times[i + 1])}; "
+                         "daily data without gaps is needed")
+
+
+def _axis_attrs(crs: CRS) -> dict:
+    if crs.is_geographic:
+        return {"x": dict(standard_name="longitude", long_name="longitude", units="degrees_east", axis="X"),
+                "y": dict(standard_name="latitude", long_name="latitude", units="degrees_north", axis="Y")}
+    unit = str(crs.axis_info[0].unit_name if crs.axis_info else "metre")
+    unit = {"metre": "m", "meter": "m", "kilometre": "km", "foot": "ft",
+            "us survey foot": "US_survey_foot"}.get(unit.lower(), unit)
+    return {d: dict(standard_name=f"projection_{d}_coordinate", long_name=f"{d} coordinate of projection",
+                    units=unit, axis=d.upper()) for d in "xy"}
+
+
+def open_climate(paths, role: str, *, variable: str | None = None, chunks: dict | None = None,
+                 label: str = "") -> xr.DataArray:
+    """Open daily ``tmin`` or ``tmax`` from NetCDF/GeoTIFF files as one lazy °C array.
+
+    Parameters
+    ----------
+    paths : list of path-like, path-like or str
+        Files, or a glob pattern (resolved with :func:`resolve_paths`).
+    role : {"tmin", "tmax"}
+        Which daily temperature the files hold.
+    variable : str, optional
+        NetCDF variable name; by default found from CF metadata or common names.
+    chunks : dict, optional
+        Spatial chunk sizes ``{"y": ..., "x": ...}`` (default 256 each).  Time is
+        always one chunk; a ``time`` key other than ``-1`` is refused.
+    label : str
+        Name of the input (e.g. ``"baseline tmin"``) used in messages.
+
+    Returns
+    -------
+    xarray.DataArray
+        Named ``role``, following the convention in the module docstring.
+    """
+    if role not in ROLES:
+        raise ValueError(f"role must be one of {ROLES}, not {role!r}")
+    chunks = dict(DEFAULT_CHUNKS, **(chunks or {}))
+    if chunks.pop("time", -1) not in (-1, None):
+        raise ValueError("time is always one chunk; leave 'time' out of chunks")
+    cy, cx = chunks.pop("y"), chunks.pop("x")
+    if chunks:
+        raise ValueError(f"unknown chunk keys {sorted(chunks)}; use 'y' and 'x'")
+    files = [Path(p) for p in (resolve_paths(paths, what=label or role)
+                               if isinstance(paths, (str, os.PathLike)) else paths)]
+    if not files:
+        raise InputError(f"no {label or role} files given; name at least one file")
+    pieces = []
+    for path in files:
+        suffix = path.suffix.lower()
+        if not path.is_file():
+            raise InputError(f"{label or role} file {path} does not exist; check the path")
+        if suffix not in NETCDF_SUFFIXES + GEOTIFF_SUFFIXES:
+            raise InputError(f"{path.name}: unknown file type '{suffix}'; use NetCDF (.nc) or GeoTIFF (.tif)")
+        p = _open_netcdf(path, role, variable, cy, cx) if suffix in NETCDF_SUFFIXES else _open_geotiff(path, cy, cx)
+        p["da"], p["crs"] = _normalise(p)
+        pieces.append(p)
+    p0, crs = pieces[0], pieces[0]["crs"]
+    for p in pieces[1:]:
+        check_same_grid(p0["da"].rio.write_crs(crs), p["da"].rio.write_crs(p["crs"]), p0["path"].name, p["path"].name)
+        if p["calendar"] != p0["calendar"]:
+            raise InputError(f"{p['path'].name} uses the {p['calendar']} calendar but {p0['path'].name} "
+                             f"the {p0['calendar']} calendar; use one calendar for all files")
+    pieces.sort(key=lambda q: q["da"]["time"].values[0])
+    da = pieces[0]["da"] if len(pieces) == 1 else xr.concat(
+        [q["da"].assign_coords(x=p0["da"].x, y=p0["da"].y) for q in pieces], dim="time", coords="minimal",
+        compat="override", join="override", combine_attrs="drop")
+    names = "; ".join(q["path"].name for q in pieces)
+    _check_daily(da["time"].values, f"{label or role} ({names})")
+    da = da.chunk({"time": -1, "y": cy, "x": cx})
+    for dim, attrs in _axis_attrs(crs).items():
+        da[dim].attrs = attrs
+    da["time"].attrs = {"standard_name": "time", "axis": "T"}
+    da = da.rio.set_spatial_dims(x_dim="x", y_dim="y").rio.write_crs(crs)
+    da = da.rio.write_transform(da.rio.transform(recalc=True))
+    da.name = role
+    stat = "minimum" if role == "tmin" else "maximum"
+    da.attrs = {"units": "degC", "standard_name": "air_temperature", "long_name": f"daily {stat} air temperature",
+                "cell_methods": f"time: {stat}", "suitmap_role": role, "source_files": names,
+                "source_variable": "; ".join(dict.fromkeys(q["variable"] for q in pieces)),
+                "original_units": "; ".join(dict.fromkeys(str(q["units"]) for q in pieces)),
+                "calendar": p0["calendar"]}
+    return da
+
+
+# --------------------------------------------------------------------------- grids, years
+def _grid(da: xr.DataArray):
+    x, y = da["x"].values.astype("float64"), da["y"].values.astype("float64")
+    dx = float(np.median(np.abs(np.diff(x)))) if x.size > 1 else float("nan")
+    dy = float(np.median(np.abs(np.diff(y)))) if y.size > 1 else float("nan")
+    bounds = (x.min() - dx / 2, y.min() - dy / 2, x.max() + dx / 2, y.max() + dy / 2)
+    return x, y, (dx, dy), tuple(float(b) for b in bounds)
+
+
+def _crs_text(crs) -> str:
+    if crs is None:
+        return "none"
+    c = CRS.from_wkt(crs.to_wkt())
+    auth = c.to_authority()
+    return f"{auth[0]}:{auth[1]}" if auth else c.name
+
+
+def check_same_grid(a: xr.DataArray, b: xr.DataArray, a_name: str, b_name: str) -> None:
+    """Raise :class:`GridMismatch` unless ``a`` and ``b`` share shape, CRS, cells and resolution."""
+    diffs = []
+    sa, sb = (a.sizes["y"], a.sizes["x"]), (b.sizes["y"], b.sizes["x"])
+    if sa != sb:
+        diffs.append(f"shape (y×x) {sa[0]}×{sa[1]} vs {sb[0]}×{sb[1]}")
+    ca, cb = a.rio.crs, b.rio.crs
+    same_crs = (ca is None and cb is None) or (ca is not None and cb is not None and CRS.from_wkt(
+        ca.to_wkt()).equals(CRS.from_wkt(cb.to_wkt()), ignore_axis_order=True))
+    if not same_crs:
+        diffs.append(f"CRS {_crs_text(ca)} vs {_crs_text(cb)}")
+    xa, ya, ra, ba = _grid(a)
+    xb, yb, rb, bb = _grid(b)
+    tol = _TOL * min(ra + rb)
+    if not np.allclose(ra, rb, rtol=_TOL, atol=0):
+        diffs.append(f"resolution {ra[0]:g}×{ra[1]:g} vs {rb[0]:g}×{rb[1]:g}")
+    if not np.allclose(ba, bb, rtol=0, atol=tol):
+        diffs.append("extent (left, bottom, right, top) "
+                     f"({', '.join(f'{v:g}' for v in ba)}) vs ({', '.join(f'{v:g}' for v in bb)})")
+    if not diffs and not (np.allclose(xa, xb, rtol=0, atol=tol) and np.allclose(ya, yb, rtol=0, atol=tol)):
+        diffs.append("cell-centre coordinates (order or spacing)")
+    if diffs:
+        raise GridMismatch(f"grids of {a_name} and {b_name} differ: {'; '.join(diffs)}; "
+                           "regrid them onto one grid")
+
+
+def _ymd(da: xr.DataArray) -> np.ndarray:
+    t = da["time"].dt
+    return (t.year * 10000 + t.month * 100 + t.day).values
+
+
+def select_years(da: xr.DataArray, first: int, last: int, *, label: str) -> xr.DataArray:
+    """Keep whole calendar years ``first``–``last``; :class:`InputError` unless the data holds all of them."""
+    if first > last:
+        raise InputError(f"{label}: first year {first} is after last year {last}; fix the period")
+    ymd = _ymd(da)
+    year, md = ymd // 10000, ymd % 10000
+    end_md = 1230 if da.attrs.get("calendar") == "360_day" else 1231
+    full = sorted(set(year[md == 101]) & set(year[md == end_md]))
+    wanted = set(range(first, last + 1))
+    if not wanted <= set(full):
+        held = f"{full[0]}–{full[-1]}" if full else "none"
+        raise InputError(f"{label}: years {first}–{last} requested but the files hold "
+                         f"{_iso(da.time.values[0])} to {_iso(da.time.values[-1])} (complete years: {held}); "
+                         "change the period or add files")
+    idx = np.flatnonzero((year >= first) & (year <= last))
+    return da.isel(time=slice(int(idx[0]), int(idx[-1]) + 1))
+
+
+def _align_pair(tmin: xr.DataArray, tmax: xr.DataArray):
+    check_same_grid(tmin, tmax, tmin.attrs.get("source_files") or "tmin", tmax.attrs.get("source_files") or "tmax")
+    if tmin.sizes["time"] != tmax.sizes["time"] or not np.array_equal(_ymd(tmin), _ymd(tmax)):
+        raise InputError(f"tmin ({_iso(tmin.time.values[0])} to {_iso(tmin.time.values[-1])}) and tmax "
+                         f"({_iso(tmax.time.values[0])} to {_iso(tmax.time.values[-1])}) cover different days; "
+                         "give both for the same days")
+    return tmax.assign_coords(time=tmin["time"], y=tmin["y"], x=tmin["x"])
+
+
+def repair_tmin_tmax(tmin: xr.DataArray, tmax: xr.DataArray) -> tuple[xr.DataArray, xr.DataArray, int]:
+    """Swap Tmin and Tmax (lazily) on the cell-days where Tmin > Tmax.
+
+    Returns the repaired pair and the number of swapped cell-days (computed);
+    warns with :class:`SuitmapWarning` when it is not zero.  NaN cell-days are
+    left as they are.
+    """
+    tmax = _align_pair(tmin, tmax)
+    swap = tmin > tmax
+    count = int(swap.sum().compute())
+    if count:
+        warnings.warn(f"{count} cell-days had Tmin > Tmax; the two values were swapped there",
+                      SuitmapWarning, stacklevel=2)
+    new_min, new_max = tmin.where(~swap, tmax), tmax.where(~swap, tmin)
+    new_min.attrs, new_max.attrs = dict(tmin.attrs), dict(tmax.attrs)
+    new_min.name, new_max.name = tmin.name, tmax.name
+    return new_min, new_max, count
+
+
+# --------------------------------------------------------------------------- QA
+@dataclass
+class ClimateQA:
+    """Figures about one Tmin/Tmax pair, for ``suitmap check`` and the run log."""
+
+    label: str
+    shape: tuple[int, int, int]  # (days, y, x)
+    crs: str
+    extent: tuple[float, float, float, float]  # left, bottom, right, top (cell edges)
+    resolution: tuple[float, float]  # x, y cell size (positive)
+    calendar: str
+    time_start: str
+    time_end: str
+    variables: dict[str, str] = field(default_factory=dict)  # role -> source variable
+    units: dict[str, str] = field(default_factory=dict)  # role -> original units
+    files: dict[str, str] = field(default_factory=dict)  # role -> '; '-joined file names
+    swapped_cell_days: int = 0  # cell-days with Tmin > Tmax
+    missing_share: dict[str, float] = field(default_factory=dict)  # role -> NaN cell-days / all cell-days
+    value_range: dict[str, tuple[float, float]] = field(default_factory=dict)  # role -> (min, max) °C
+
+    def lines(self) -> list[str]:
+        """Human-readable summary, one item a line."""
+        n, ny, nx = self.shape
+        out = [f"{self.label}:",
+               f"  grid: {ny} × {nx} cells (y × x), CRS {self.crs}, resolution "
+               f"{self.resolution[0]:g} × {self.resolution[1]:g}",
+               "  extent (left, bottom, right, top): " + ", ".join(f"{v:g}" for v in self.extent),
+               f"  time: {self.time_start} to {self.time_end}, {n} days, calendar {self.calendar}"]
+        for role in ROLES:
+            lo, hi = self.value_range.get(role, (float("nan"), float("nan")))
+            out.append(f"  {role}: variable '{self.variables.get(role, '?')}' in {self.files.get(role, '?')}, "
+                       f"units {self.units.get(role, '?')} -> degC, range {lo:.1f} to {hi:.1f} °C, "
+                       f"missing {100 * self.missing_share.get(role, float('nan')):.2f} %")
+        out.append(f"  cell-days with Tmin > Tmax: {self.swapped_cell_days}")
+        return out
+
+
+def qa_summary(tmin: xr.DataArray, tmax: xr.DataArray, label: str) -> ClimateQA:
+    """Compute the QA figures of a Tmin/Tmax pair in one dask pass."""
+    tmax = _align_pair(tmin, tmax)
+    total = int(np.prod(tmin.shape))
+    swaps, nmin, nmax, lo_min, hi_min, lo_max, hi_max = dask.compute(
+        (tmin > tmax).sum().data, tmin.isnull().sum().data, tmax.isnull().sum().data,
+        tmin.min().data, tmin.max().data, tmax.min().data, tmax.max().data)
+    _, _, res, bounds = _grid(tmin)
+    return ClimateQA(
+        label=label, shape=tuple(int(s) for s in tmin.shape), crs=_crs_text(tmin.rio.crs), extent=bounds,
+        resolution=res, calendar=str(tmin.attrs.get("calendar", "?")),
+        time_start=_iso(tmin.time.values[0]), time_end=_iso(tmin.time.values[-1]),
+        **{key: {r: str(d.attrs.get(attr, "?")) for r, d in (("tmin", tmin), ("tmax", tmax))}
+           for key, attr in (("variables", "source_variable"), ("units", "original_units"),
+                             ("files", "source_files"))},
+        swapped_cell_days=int(swaps),
+        missing_share={"tmin": int(nmin) / total, "tmax": int(nmax) / total},
+        value_range={"tmin": (float(lo_min), float(hi_min)), "tmax": (float(lo_max), float(hi_max))},
+    )

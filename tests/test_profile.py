@@ -1,0 +1,76 @@
+"""Organism profile validation: every bad key gives one error naming it."""
+
+import pytest
+
+from suitmap.errors import ProfileError
+from suitmap.profile import load_profile, profile_from_dict
+
+
+def good():
+    return {
+        "organism": {"name": "test moth (invented)", "role": "pest", "source": "test"},
+        "development": {"lower_threshold": 10.0, "upper_threshold": 30.0,
+                        "degree_days_per_generation": 400, "method": "single_sine",
+                        "cutoff": "horizontal"},
+        "survival": {"lethal_cold": -15.0, "lethal_heat": 40.0},
+        "season": {"start": "03-01", "end": "10-31"},
+    }
+
+
+def test_valid_profile_round_trip():
+    p = profile_from_dict(good())
+    assert p.development.lower_threshold == 10.0
+    assert p.development.degree_days_per_generation == 400.0
+    assert p.season.start == (3, 1) and p.season.end == (10, 31)
+    assert p.to_dict()["season"] == {"start": "03-01", "end": "10-31"}
+
+
+def test_defaults():
+    raw = good()
+    del raw["season"], raw["survival"]
+    del raw["development"]["method"], raw["development"]["cutoff"]
+    p = profile_from_dict(raw)
+    assert p.season.is_default
+    assert p.development.method == "single_sine" and p.development.cutoff == "horizontal"
+    assert p.survival.lethal_cold is None
+
+
+@pytest.mark.parametrize("edit, key", [
+    (lambda r: r["development"].update(lower_threshold=30.0), "lower_threshold"),
+    (lambda r: r["development"].update(lower_threshold=35.0), "lower_threshold"),
+    (lambda r: r["development"].update(degree_days_per_generation=0), "degree_days_per_generation"),
+    (lambda r: r["development"].update(degree_days_per_generation=-5), "degree_days_per_generation"),
+    (lambda r: r["development"].update(upper_threshold="hot"), "upper_threshold"),
+    (lambda r: r["development"].update(upper_threshold=True), "upper_threshold"),
+    (lambda r: r["development"].update(method="fancy"), "method"),
+    (lambda r: r["development"].update(cutoff="diagonal"), "cutoff"),
+    (lambda r: r["development"].update(colour="red"), "development.colour"),
+    (lambda r: r["development"].pop("degree_days_per_generation"), "degree_days_per_generation"),
+    (lambda r: r.update(extras={}), "extras"),
+    (lambda r: r.pop("development"), "development"),
+    (lambda r: r["organism"].update(role="villain"), "role"),
+    (lambda r: r["survival"].update(lethal_cold=12.0), "lethal_cold"),
+    (lambda r: r["survival"].update(lethal_heat=25.0), "lethal_heat"),
+    (lambda r: r["season"].update(start="13-01"), "season.start"),
+    (lambda r: r["season"].update(end="02-30"), "season.end"),
+    (lambda r: r["season"].update(start="March"), "season.start"),
+    (lambda r: r["season"].pop("end"), "season"),
+    (lambda r: r["season"].update(start="biofix"), "biofix"),
+])
+def test_bad_profiles_name_the_key(edit, key):
+    raw = good()
+    edit(raw)
+    with pytest.raises(ProfileError) as err:
+        profile_from_dict(raw, where="profile x.toml")
+    msg = str(err.value)
+    assert key in msg and "x.toml" in msg
+    assert "\n" not in msg
+
+
+def test_load_profile_file_errors(tmp_path):
+    with pytest.raises(ProfileError, match="not found"):
+        load_profile(tmp_path / "missing.toml")
+    bad = tmp_path / "bad.toml"
+    bad.write_text("[organism\nname = 1")
+    with pytest.raises(ProfileError, match="not valid TOML"):
+        load_profile(bad)

@@ -1,0 +1,71 @@
+"""Run file validation and path resolution."""
+
+import textwrap
+
+import pytest
+
+from suitmap.errors import RunFileError
+from suitmap.runfile import load_run
+
+GOOD = """
+[profile]
+path = "profiles/p.toml"
+
+[baseline]
+years = [1991, 2020]
+tmin = "climate/b_tmin_*.nc"
+tmax = ["climate/b_tmax_1.nc", "climate/b_tmax_2.nc"]
+
+[[scenario]]
+name = "m-a_mid"
+years = [2041, 2070]
+tmin = { files = "climate/a_tmin_*.nc", variable = "tasmin" }
+tmax = "climate/a_tmax_*.nc"
+
+[output]
+dir = "out"
+formats = ["geotiff"]
+"""
+
+
+def write(tmp_path, text):
+    p = tmp_path / "run.toml"
+    p.write_text(textwrap.dedent(text))
+    return p
+
+
+def test_good_run_file_resolves_relative_paths(tmp_path):
+    run = load_run(write(tmp_path, GOOD))
+    assert run.profile_path == tmp_path / "profiles" / "p.toml"
+    assert run.baseline.name == "baseline"
+    assert run.baseline.tmin.patterns == (str(tmp_path / "climate" / "b_tmin_*.nc"),)
+    assert len(run.baseline.tmax.patterns) == 2
+    assert run.scenarios[0].tmin.variable == "tasmin"
+    assert run.output.dir == tmp_path / "out"
+    assert run.output.formats == ("geotiff",)
+    assert [p.name for p in run.periods] == ["baseline", "m-a_mid"]
+
+
+@pytest.mark.parametrize("old, new, key", [
+    ("years = [1991, 2020]", "years = [2020, 1991]", "baseline.years"),
+    ("years = [1991, 2020]", "years = 1991", "baseline.years"),
+    ('formats = ["geotiff"]', 'formats = ["shapefile"]', "output.formats"),
+    ('dir = "out"', 'dir = "out"\nextra = 1', "output.extra"),
+    ('name = "m-a_mid"', 'name = "bad name/slash"', "name"),
+    ('name = "m-a_mid"', 'name = "baseline"', "unique"),
+    ('tmax = "climate/a_tmax_*.nc"', "", "tmax"),
+    ('path = "profiles/p.toml"', "", "[profile]"),
+])
+def test_bad_run_files_name_the_key(tmp_path, old, new, key):
+    assert old in GOOD
+    with pytest.raises(RunFileError) as err:
+        load_run(write(tmp_path, GOOD.replace(old, new, 1)))
+    assert key in str(err.value)
+    assert "run.toml" in str(err.value)
+
+
+def test_missing_and_invalid_files(tmp_path):
+    with pytest.raises(RunFileError, match="not found"):
+        load_run(tmp_path / "nope.toml")
+    with pytest.raises(RunFileError, match="not valid TOML"):
+        load_run(write(tmp_path, "[baseline\n"))
