@@ -1,3 +1,28 @@
-"""suitmap: where an insect completes its life cycle, now and in scenario climates."""
+"""suitmap: where an insect completes its life cycle, now and in scenario climates.
+
+The Python API does what the command line does::
+
+    import suitmap
+    run = suitmap.load_run("demo_run.toml")
+    layers = suitmap.compute_run(run).compute()     # lazy until here
+    suitmap.write_outputs(layers)
+
+Outputs are screening-level estimates, not a basis for control decisions.
+"""
 
 __version__ = "0.1.0"
+
+from .climate import open_climate  # noqa: E402
+from .compare import compare  # noqa: E402
+from .daily import degree_days  # noqa: E402
+from .layers import compute_layers, season_statistics  # noqa: E402
+from .outputs import write_outputs  # noqa: E402
+from .pipeline import check_run, compute_run, open_period, run  # noqa: E402
+from .profile import load_profile  # noqa: E402
+from .runfile import load_run  # noqa: E402
+
+__all__ = [
+    "__version__", "open_climate", "compare", "degree_days", "compute_layers",
+    "season_statistics", "write_outputs", "check_run", "compute_run", "open_period", "run",
+    "load_profile", "load_run",
+]

@@ -5,11 +5,9 @@ from __future__ import annotations
 import subprocess
 import sys
 
-import numpy as np
-import pytest
 
 from climate_fixtures import make_tmin_tmax, write_netcdf_daily
-from conftest import write_period, write_profile, write_runfile
+from conftest import write_period
 from suitmap.cli import main
 
 
@@ -66,7 +64,7 @@ def test_variable_not_found(small_case, capsys):
 
 
 def test_unknown_units(small_case, capsys):
-    tmin, tmax = small_case["tmin"], small_case["tmax"]
+    tmin, _tmax = small_case["tmin"], small_case["tmax"]
     write_netcdf_daily(small_case["dir"] / "climate" / "base_tmin.nc", tmin, var="tmin",
                        units="furlongs", crs="EPSG:4326")
     assert_clean_failure(small_case, capsys, "furlongs", "base_tmin.nc")
