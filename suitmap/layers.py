@@ -20,7 +20,7 @@ import numpy as np
 import xarray as xr
 
 from .errors import InputError
-from .kernels.degree_days import degree_days as _dd_kernel
+from .kernels.degree_days import degree_days_block
 from .metadata import LIMITING_FACTOR_CLASSES, MISSING_CLASS, layer_attrs
 from .profile import Profile
 from .seasons import (NORTH_DEFAULT, SOUTH_DEFAULT, SeasonWindow, complete_seasons,
@@ -72,12 +72,13 @@ def _season_block(tmin: np.ndarray, tmax: np.ndarray, south: np.ndarray, *,
             if sl is None:
                 continue
             i0, i1 = sl
-            tn = tmin[..., i0:i1]
-            tx = tmax[..., i0:i1]
+            tn = np.ascontiguousarray(tmin[..., i0:i1])
+            tx = np.ascontiguousarray(tmax[..., i0:i1])
             nxt = np.empty_like(tn)
             nxt[..., :-1] = tn[..., 1:]
             nxt[..., -1] = tmin[..., i1] if i1 < nt else tn[..., -1]
-            dd = _dd_kernel(tn, tx, lower, upper, method=method, cutoff=cutoff, tmin_next=nxt)
+            # dask already runs blocks in parallel threads: the kernel runs serially here
+            dd = degree_days_block(tn, tx, nxt, lower, upper, method, cutoff, parallel=False)
             cum = np.cumsum(dd, axis=-1)
             total = cum[..., -1]
             reached = cum >= dd_per_gen
