@@ -20,10 +20,11 @@ RUN_FILE = "demo_run.toml"
 def sample_dir() -> Path:
     """Folder of the bundled sample rasters (installed package or source checkout)."""
     try:
-        p = Path(str(resources.files("suitmap.sample_rasters")))
+        with resources.as_file(resources.files("suitmap.sample_rasters")) as found:
+            p = Path(found)
         if (p / RUN_FILE).is_file():
             return p
-    except (ModuleNotFoundError, TypeError):
+    except (ModuleNotFoundError, TypeError, AttributeError):
         pass
     p = Path(__file__).resolve().parents[1] / "sample_rasters"
     if (p / RUN_FILE).is_file():

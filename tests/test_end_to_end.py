@@ -19,8 +19,9 @@ from suitmap.metadata import NUMERIC_LAYERS
 @pytest.fixture(scope="module")
 def demo(tmp_path_factory):
     folder = tmp_path_factory.mktemp("demo") / "suitmap-demo"
+    # run from outside the checkout, so the installed package (and its bundled data) is used
     proc = subprocess.run([sys.executable, "-m", "suitmap", "demo", "--out", str(folder)],
-                          capture_output=True, text=True)
+                          capture_output=True, text=True, cwd=folder.parent)
     assert proc.returncode == 0, proc.stderr
     return folder, proc
 
