@@ -321,6 +321,23 @@ def _iso(t) -> str:
     return str(np.datetime64(t, "D")) if isinstance(t, np.datetime64) else t.strftime("%Y-%m-%d")
 
 
+def _drop_overlap(da: xr.DataArray, what: str) -> xr.DataArray:
+    """Drop days that an earlier-starting file already holds (e.g. historical + scenario files)."""
+    days = _days(da["time"].values)
+    if days.size < 2:
+        return da
+    seen = np.maximum.accumulate(days)
+    keep = np.ones(days.size, dtype=bool)
+    keep[1:] = days[1:] > seen[:-1]
+    n = int((~keep).sum())
+    if n:
+        dup = da["time"].values[~keep]
+        warnings.warn(f"{what}: {n} day(s) from {_iso(dup[0])} to {_iso(dup[-1])} are held by more than "
+                      "one file; the first file's values are kept", SuitmapWarning, stacklevel=3)
+        da = da.isel(time=np.flatnonzero(keep))
+    return da
+
+
 def _check_daily(times: np.ndarray, what: str) -> None:
     if times.size < 2:
         return
@@ -406,6 +423,8 @@ def open_climate(paths, role: str, *, variable: str | None = None, chunks: dict 
         [q["da"].assign_coords(x=p0["da"].x, y=p0["da"].y) for q in pieces], dim="time", coords="minimal",
         compat="override", join="override", combine_attrs="drop")
     names = "; ".join(q["path"].name for q in pieces)
+    if len(pieces) > 1:
+        da = _drop_overlap(da, f"{label or role} ({names})")
     _check_daily(da["time"].values, f"{label or role} ({names})")
     da = da.chunk({"time": -1, "y": cy, "x": cx})
     for dim, attrs in _axis_attrs(crs).items():

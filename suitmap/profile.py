@@ -19,6 +19,7 @@ from .errors import ProfileError
 from .kernels.degree_days import CUTOFFS, METHODS
 
 ROLES = ("pest", "beneficial", "pollinator", "crop", "other")
+DIURNAL = ("sine", "parton_logan")
 _MMDD = re.compile(r"^(\d{2})-(\d{2})$")
 
 
@@ -30,12 +31,25 @@ class Organism:
 
 
 @dataclass(frozen=True)
+class RateCurve:
+    """A nonlinear development-rate model and its parameters (glossary names)."""
+
+    model: str
+    params: tuple[tuple[str, float], ...]
+
+    def as_dict(self) -> dict[str, float]:
+        return dict(self.params)
+
+
+@dataclass(frozen=True)
 class Development:
     lower_threshold: float
     upper_threshold: float
-    degree_days_per_generation: float
+    degree_days_per_generation: float | None
     method: str = "single_sine"
     cutoff: str = "horizontal"
+    rate_curve: RateCurve | None = None
+    diurnal: str = "sine"
 
 
 @dataclass(frozen=True)
@@ -77,6 +91,9 @@ class Profile:
         s = d["season"]
         for k in ("start", "end"):
             s[k] = None if s[k] is None else f"{s[k][0]:02d}-{s[k][1]:02d}"
+        rc = self.development.rate_curve
+        d["development"]["rate_curve"] = (None if rc is None
+                                          else {"model": rc.model, **rc.as_dict()})
         return d
 
 
@@ -86,9 +103,11 @@ _SCHEMA: dict[str, dict[str, tuple[tuple[type, ...], bool]]] = {
     "development": {
         "lower_threshold": ((int, float), True),
         "upper_threshold": ((int, float), True),
-        "degree_days_per_generation": ((int, float), True),
+        "degree_days_per_generation": ((int, float), False),
         "method": ((str,), False),
         "cutoff": ((str,), False),
+        "diurnal": ((str,), False),
+        "rate_curve": ((dict,), False),
     },
     "survival": {"lethal_cold": ((int, float), False), "lethal_heat": ((int, float), False)},
     "season": {"start": ((str,), False), "end": ((str,), False)},
@@ -132,6 +151,26 @@ def _parse_mmdd(value: str, key: str, where: str) -> tuple[int, int]:
     return month, day
 
 
+def _rate_curve(raw: dict | None, where: str) -> RateCurve | None:
+    if raw is None:
+        return None
+    from .kernels.rates import MODELS, validate_params
+
+    raw = dict(raw)
+    model = raw.pop("model", None)
+    if model not in MODELS:
+        raise ProfileError(f"{where}: development.rate_curve.model must be one of "
+                           f"{', '.join(MODELS)}, got {model!r}")
+    for key, value in raw.items():
+        if isinstance(value, bool) or not isinstance(value, (int, float)):
+            raise ProfileError(f"{where}: development.rate_curve.{key} must be a number, got {value!r}")
+    try:
+        params = validate_params(model, raw)
+    except ValueError as exc:
+        raise ProfileError(f"{where}: development.rate_curve: {exc}") from None
+    return RateCurve(model, tuple(params.items()))
+
+
 def profile_from_dict(raw: dict[str, Any], where: str = "profile") -> Profile:
     """Validate a profile given as a dict (as read from TOML)."""
     for table in raw:
@@ -170,12 +209,24 @@ def profile_from_dict(raw: dict[str, Any], where: str = "profile") -> Profile:
             f"{where}: development.lower_threshold ({lower}) must be below "
             f"development.upper_threshold ({upper})"
         )
-    ddg = float(dev["degree_days_per_generation"])
-    if not ddg > 0:
+    rate_curve = _rate_curve(dev.get("rate_curve"), where)
+    if "degree_days_per_generation" in dev:
+        ddg = float(dev["degree_days_per_generation"])
+        if not ddg > 0:
+            raise ProfileError(
+                f"{where}: development.degree_days_per_generation must be positive, got {ddg}"
+            )
+    elif rate_curve is None:
+        raise ProfileError(f"{where}: missing required key development.degree_days_per_generation "
+                           "(or give a [development.rate_curve])")
+    else:
+        ddg = None
+    diurnal = dev.get("diurnal", "sine")
+    if diurnal not in DIURNAL:
         raise ProfileError(
-            f"{where}: development.degree_days_per_generation must be positive, got {ddg}"
+            f"{where}: development.diurnal must be one of {', '.join(DIURNAL)}, got {diurnal!r}"
         )
-    development = Development(lower, upper, ddg, method, cutoff)
+    development = Development(lower, upper, ddg, method, cutoff, rate_curve, diurnal)
 
     cold = surv.get("lethal_cold")
     heat = surv.get("lethal_heat")

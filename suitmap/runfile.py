@@ -33,6 +33,9 @@ class Period:
     tmin: ClimateSource
     tmax: ClimateSource
     kind: str = "scenario"  # "baseline" or "scenario"
+    model: str | None = None      # climate model, for ensembles
+    pathway: str | None = None    # emissions pathway, for ensembles
+    period: str | None = None     # period label (e.g. "mid-century"), for ensembles
 
 
 @dataclass(frozen=True)
@@ -88,7 +91,7 @@ def _source(value: Any, key: str, base: Path, where: str) -> ClimateSource:
         value = [value]
     if not (isinstance(value, list) and value and all(isinstance(v, str) for v in value)):
         raise RunFileError(f"{where}: {key} must be a file glob, a list of globs, or a table "
-                           "{{files = ..., variable = ...}}")
+                           "{files = ..., variable = ...}")
     return ClimateSource(tuple(_resolve(base, v) for v in value), variable)
 
 
@@ -96,7 +99,10 @@ def _period(table: Any, name_key: str, base: Path, where: str, kind: str,
             default_name: str | None = None) -> Period:
     if not isinstance(table, dict):
         raise RunFileError(f"{where}: [{name_key}] must be a table")
-    _keys(table, ("name", "years", "tmin", "tmax"), where, name_key)
+    _keys(table, ("name", "years", "tmin", "tmax", "model", "pathway", "period"), where, name_key)
+    for key in ("model", "pathway", "period"):
+        if key in table and not (isinstance(table[key], str) and _NAME.match(table[key])):
+            raise RunFileError(f"{where}: {name_key}.{key} must be a short name, got {table[key]!r}")
     name = table.get("name", default_name)
     if not isinstance(name, str) or not _NAME.match(name):
         raise RunFileError(
@@ -118,14 +124,56 @@ def _period(table: Any, name_key: str, base: Path, where: str, kind: str,
         tmin=_source(table["tmin"], f"{name_key}.tmin", base, where),
         tmax=_source(table["tmax"], f"{name_key}.tmax", base, where),
         kind=kind,
+        model=table.get("model"),
+        pathway=table.get("pathway"),
+        period=table.get("period"),
     )
+
+
+def _scenario_sets(raw: Any, base: Path, where: str) -> list[Period]:
+    from .scenario_sets import expand
+
+    if isinstance(raw, dict):
+        raw = [raw]
+    if not isinstance(raw, list):
+        raise RunFileError(f"{where}: [[scenario_set]] must be an array of tables")
+    out = []
+    for i, table in enumerate(raw):
+        key = f"scenario_set[{i}]"
+        if not isinstance(table, dict):
+            raise RunFileError(f"{where}: {key} must be a table")
+        _keys(table, ("files", "variables", "periods"), where, key)
+        files = table.get("files")
+        if not isinstance(files, str):
+            raise RunFileError(f"{where}: {key}.files must be a file-name template string")
+        variables = table.get("variables", {"tmin": "tasmin", "tmax": "tasmax"})
+        if (not isinstance(variables, dict) or set(variables) != {"tmin", "tmax"}
+                or not all(isinstance(v, str) for v in variables.values())):
+            raise RunFileError(f"{where}: {key}.variables must be {{ tmin = \"...\", tmax = \"...\" }}")
+        periods = table.get("periods")
+        if not isinstance(periods, dict) or not periods:
+            raise RunFileError(f"{where}: {key}.periods must name at least one period, "
+                               "e.g. { mid-century = [2041, 2070] }")
+        spans = {}
+        for name, years in periods.items():
+            if not _NAME.match(name) or not (isinstance(years, list) and len(years) == 2 and all(
+                    isinstance(y, int) and not isinstance(y, bool) for y in years)) or years[0] > years[1]:
+                raise RunFileError(f"{where}: {key}.periods.{name} must be [first, last] years")
+            spans[name] = (years[0], years[1])
+        for f in expand(_resolve(base, files), variables, spans, f"{where}: {key}"):
+            out.append(Period(
+                name=f"{f.model}_{f.pathway}_{f.period}", years=spans[f.period],
+                tmin=ClimateSource(f.tmin, variables["tmin"]),
+                tmax=ClimateSource(f.tmax, variables["tmax"]),
+                kind="scenario", model=f.model, pathway=f.pathway, period=f.period))
+    return out
 
 
 def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
     """Validate a run file given as a dict; ``path`` anchors relative paths."""
     where = f"run file {path}"
     base = path.parent
-    _keys(raw, ("profile", "baseline", "scenario", "output", "compute"), where, "")
+    _keys(raw, ("profile", "baseline", "scenario", "scenario_set", "output", "compute"), where, "")
     prof = raw.get("profile")
     if not isinstance(prof, dict) or not isinstance(prof.get("path"), str):
         raise RunFileError(f"{where}: needs [profile] with path = \"<organism profile .toml>\"")
@@ -140,7 +188,7 @@ def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
         raise RunFileError(f"{where}: [[scenario]] must be an array of tables")
     scenarios = tuple(
         _period(s, f"scenario[{i}]", base, where, "scenario") for i, s in enumerate(scen_raw)
-    )
+    ) + tuple(_scenario_sets(raw.get("scenario_set", []), base, where))
     names = [baseline.name] + [s.name for s in scenarios]
     dupes = sorted({n for n in names if names.count(n) > 1})
     if dupes:

@@ -293,9 +293,23 @@ def test_gap_overlap_and_non_daily_raise(tmp_path):
     nc(tmp_path / "y3.nc", TMIN[:365], var="tasmin", start="2003-01-01")
     with pytest.raises(InputError, match="missing between 2001-12-31 and 2003-01-01"):
         open_climate([tmp_path / "y1.nc", tmp_path / "y3.nc"], "tmin")
-    nc(tmp_path / "y1b.nc", TMIN[:365], var="tasmin", start="2001-06-01")
-    with pytest.raises(InputError, match="twice"):
-        open_climate([tmp_path / "y1.nc", tmp_path / "y1b.nc"], "tmin")
+    with pytest.raises(InputError, match="daily data is needed"):
+        open_climate([nc(tmp_path / "six_hourly.nc", var="tasmin", step_hours=6.0)], "tmin")
+
+
+def test_overlapping_files_are_trimmed_with_a_warning(tmp_path):
+    """Historical + scenario files that share days: the earlier-starting file's days are kept."""
+    nc(tmp_path / "y1.nc", TMIN[:365], var="tasmin", start="2001-01-01")
+    nc(tmp_path / "y1b.nc", TMIN[:365] + 5.0, var="tasmin", start="2001-06-01")
+    with pytest.warns(SuitmapWarning, match="214 day"):
+        da = open_climate([tmp_path / "y1.nc", tmp_path / "y1b.nc"], "tmin")
+    # 2001-01-01 .. 2002-05-31 once each; 1 Jun - 31 Dec 2001 (214 days) from the first file
+    assert da.sizes["time"] == 365 + 151
+    np.testing.assert_allclose(da.values[:365], TMIN[:365], atol=1e-5)
+    np.testing.assert_allclose(da.values[365:], TMIN[214:365] + 5.0, atol=1e-5)
+
+
+def test_non_daily_raises(tmp_path):
     with pytest.raises(InputError, match="daily data is needed"):
         open_climate([nc(tmp_path / "six_hourly.nc", var="tasmin", step_hours=6.0)], "tmin")
 
