@@ -74,3 +74,41 @@ def test_load_profile_file_errors(tmp_path):
     bad.write_text("[organism\nname = 1")
     with pytest.raises(ProfileError, match="not valid TOML"):
         load_profile(bad)
+
+
+def test_rate_curve_profile():
+    raw = good()
+    # Briere et al. 1999 (Environ. Entomol. 28:22-29) egg parameters; a from memory
+    raw["development"]["rate_curve"] = {"model": "briere1", "a": 1.7e-4, "t_low": 10.55,
+                                        "t_high": 34.0}
+    raw["development"]["diurnal"] = "parton_logan"
+    p = profile_from_dict(raw)
+    assert p.development.rate_curve.model == "briere1"
+    assert p.development.rate_curve.as_dict()["t_high"] == 34.0
+    assert p.development.diurnal == "parton_logan"
+    assert p.to_dict()["development"]["rate_curve"]["model"] == "briere1"
+    # with a curve, the thermal constant may be left out
+    del raw["development"]["degree_days_per_generation"]
+    assert profile_from_dict(raw).development.degree_days_per_generation is None
+
+
+@pytest.mark.parametrize("curve, key", [
+    ({"model": "spline"}, "rate_curve.model"),
+    ({"model": "briere1", "a": 1e-4, "t_low": 30.0, "t_high": 20.0}, "t_high"),
+    ({"model": "briere1", "a": 1e-4, "t_low": 10.0}, "t_high"),
+    ({"model": "briere1", "a": "big", "t_low": 10.0, "t_high": 30.0}, "rate_curve.a"),
+    ({"model": "lactin1", "rho": 0.15, "t_high": 38.0, "delta": 6.4, "extra": 1.0}, "extra"),
+])
+def test_bad_rate_curves_name_the_key(curve, key):
+    raw = good()
+    raw["development"]["rate_curve"] = curve
+    with pytest.raises(ProfileError) as err:
+        profile_from_dict(raw, where="profile x.toml")
+    assert key in str(err.value) and "\n" not in str(err.value)
+
+
+def test_diurnal_must_be_known():
+    raw = good()
+    raw["development"]["diurnal"] = "square"
+    with pytest.raises(ProfileError, match="development.diurnal"):
+        profile_from_dict(raw)
