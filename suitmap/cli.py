@@ -41,7 +41,8 @@ def _cmd_demo(args) -> int:
 def _cmd_run(args) -> int:
     from .pipeline import run
 
-    manifest = run(args.runfile, overwrite=args.overwrite, progress=_progress_wanted(args))
+    manifest = run(args.runfile, overwrite=args.overwrite, progress=_progress_wanted(args),
+                   workers=args.workers, scheduler_address=args.scheduler)
     if not args.quiet:
         print(f"outputs:  {manifest.parent}")
         print(f"manifest: {manifest}")
@@ -84,6 +85,10 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("runfile", help="run file (TOML)")
     p.add_argument("--overwrite", action="store_true",
                    help="replace the output folder if it exists")
+    p.add_argument("--workers", type=int, default=None, metavar="N",
+                   help="run on a local dask.distributed cluster of N worker processes")
+    p.add_argument("--scheduler", default=None, metavar="ADDRESS",
+                   help="run on an existing dask.distributed scheduler, e.g. tcp://host:8786")
     p.set_defaults(func=_cmd_run)
 
     p = sub.add_parser("check", parents=[common],

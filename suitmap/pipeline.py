@@ -118,14 +118,24 @@ class RunLayers:
     comparisons: dict[str, xr.Dataset]
     inputs: dict[str, dict[str, list[str]]]
 
-    def compute(self, progress: bool = False) -> "RunLayers":
-        """Compute every layer (one dask pass) and return the loaded results."""
+    def compute(self, progress: bool = False, client=None) -> "RunLayers":
+        """Compute every layer (one dask pass) and return the loaded results.
+
+        ``client``: a ``distributed.Client`` to run on; default the threaded scheduler.
+        """
         import dask
 
         names_p = list(self.periods)
         names_c = list(self.comparisons)
         items = [self.periods[n] for n in names_p] + [self.comparisons[n] for n in names_c]
-        if progress:
+        if client is not None:
+            futures = client.compute(items)
+            if progress:
+                from dask.distributed import progress as dprogress
+
+                dprogress(futures)
+            done = client.gather(futures)
+        elif progress:
             from tqdm.dask import TqdmCallback
 
             with TqdmCallback(desc="computing layers", leave=False):
@@ -167,11 +177,14 @@ def compute_run(run: RunFile | str | Path) -> RunLayers:
     return RunLayers(run, profile, periods, comps, inputs)
 
 
-def run(run: RunFile | str | Path, *, overwrite: bool = False, progress: bool = False) -> Path:
+def run(run: RunFile | str | Path, *, overwrite: bool = False, progress: bool = False,
+        workers: int | None = None, scheduler_address: str | None = None) -> Path:
     """Compute every layer of a run file and write all outputs.
 
     The output folder is checked before any computation (an existing one is
-    refused unless ``overwrite``) and appears only when complete.
+    refused unless ``overwrite``) and appears only when complete.  ``workers``
+    starts a local dask.distributed cluster; ``scheduler_address`` uses an
+    existing one; by default dask's threaded scheduler runs the graph.
 
     Returns
     -------
@@ -179,8 +192,11 @@ def run(run: RunFile | str | Path, *, overwrite: bool = False, progress: bool = 
         The ``manifest.json`` of the written outputs.
     """
     from .outputs import check_output_dir, write_outputs
+    from .scheduling import scheduler
 
     run = _as_run(run)
     check_output_dir(run.output.dir, overwrite)
-    layers = compute_run(run).compute(progress=progress)
+    lazy = compute_run(run)
+    with scheduler(workers, scheduler_address) as client:
+        layers = lazy.compute(progress=progress, client=client)
     return write_outputs(layers, overwrite=overwrite)
