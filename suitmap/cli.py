@@ -55,10 +55,14 @@ def _cmd_check(args) -> int:
     run, profile, opened = check_run(args.runfile)
     print(f"run file: {run.path}")
     print(f"profile:  {run.profile_path} ({profile.organism.name})")
+    print(f"periods:  {len(opened)} (1 baseline, {len(opened) - 1} scenarios)")
     for pc in opened:
-        print(f"[{pc.period.kind} {pc.period.name}] years {pc.period.years[0]}-{pc.period.years[1]}")
-        for line in pc.qa.lines():
-            print(f"  {line}")
+        p = pc.period
+        tags = ", ".join(f"{k} {v}" for k, v in (("model", p.model), ("pathway", p.pathway),
+                                                ("period", p.period)) if v)
+        print(f"[{p.kind}] {p.name}: years {p.years[0]}-{p.years[1]}" + (f" ({tags})" if tags else ""))
+        for line in pc.qa.lines()[1:]:
+            print(line)
     print("usable: yes")
     return 0
 
@@ -110,6 +114,9 @@ def main(argv: list[str] | None = None) -> int:
             raise
         print(f"suitmap: error: {exc}", file=sys.stderr)
         return exc.exit_code
+    except BrokenPipeError:  # output piped into e.g. `head`
+        sys.stderr.close()
+        return 0
     except KeyboardInterrupt:
         print("suitmap: interrupted; no outputs were written", file=sys.stderr)
         return 130
