@@ -67,6 +67,43 @@ def _cmd_check(args) -> int:
     return 0
 
 
+def _cmd_fit(args) -> int:
+    from .fit import fit_all, linear_part
+    from .fit_report import plot_fits, read_lab_csv, write_profile_toml
+    import numpy as np
+
+    from .kernels.rates import MODELS
+
+    data = read_lab_csv(args.labdata)
+    models = MODELS if args.model == "all" else tuple(args.model.split(","))
+    unknown = [m for m in models if m not in MODELS]
+    if unknown:
+        raise SuitmapError(f"--model: unknown model {unknown[0]!r}; choose from {', '.join(MODELS)} or all")
+    stem = Path(args.labdata).stem
+    profile_path = Path(args.profile or f"{stem}_profile.toml")
+    figure_path = Path(args.figure or f"{stem}_fits.png")
+    for p in (profile_path, figure_path):
+        if p.exists() and not args.overwrite:
+            raise SuitmapError(f"{p} exists; pass --overwrite to replace it or choose another name")
+    results = fit_all(data, models, criterion=args.criterion)
+    lp = linear_part(data)
+    print(f"lab data: {args.labdata} ({len(data.temperature)} rows, "
+          f"{len(np.unique(data.temperature))} temperatures)")
+    print(f"linear part: lower_threshold {lp.lower_threshold:.3f} °C, "
+          f"degree_days_per_generation {lp.degree_days_per_generation:.1f} °C·day")
+    print(f"models ranked by {args.criterion.upper()} (best first):")
+    for r in results:
+        score = f"{args.criterion.upper()} {getattr(r, args.criterion):9.2f}  " if r.converged else ""
+        print(f"  {score}{r.summary()}")
+    best = results[0]
+    write_profile_toml(best, data, profile_path, organism_name=args.name or stem,
+                       overwrite=args.overwrite, upper="optimum")
+    plot_fits(data, results, figure_path, overwrite=args.overwrite)
+    print(f"profile ({best.model}): {profile_path}")
+    print(f"figure:  {figure_path}")
+    return 0
+
+
 def build_parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(
         prog="suitmap",
@@ -94,6 +131,19 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--scheduler", default=None, metavar="ADDRESS",
                    help="run on an existing dask.distributed scheduler, e.g. tcp://host:8786")
     p.set_defaults(func=_cmd_run)
+
+    p = sub.add_parser("fit", parents=[common],
+                       help="fit development-rate models to lab development times and write a profile")
+    p.add_argument("labdata", help="CSV with temperature (°C), development time (days), optional n")
+    p.add_argument("--model", default="all",
+                   help="model(s) to fit, comma-separated, or 'all' (default)")
+    p.add_argument("--criterion", default="aicc", choices=("aicc", "aic", "bic"),
+                   help="ranking criterion (default aicc, for the small samples of lab studies)")
+    p.add_argument("--name", default=None, help="organism name written into the profile")
+    p.add_argument("--profile", default=None, help="profile TOML to write (default <csv>_profile.toml)")
+    p.add_argument("--figure", default=None, help="PNG of data and fits (default <csv>_fits.png)")
+    p.add_argument("--overwrite", action="store_true", help="replace existing profile/figure files")
+    p.set_defaults(func=_cmd_fit)
 
     p = sub.add_parser("check", parents=[common],
                        help="read every input of a run file and print a QA summary, computing nothing")
