@@ -175,8 +175,18 @@ def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
     base = path.parent
     _keys(raw, ("profile", "baseline", "scenario", "scenario_set", "output", "compute"), where, "")
     prof = raw.get("profile")
+    if isinstance(prof, dict) and isinstance(prof.get("library"), str) and "path" not in prof:
+        from . import library
+
+        _keys(prof, ("library",), where, "profile")
+        try:
+            prof = {"path": str(library.path(prof["library"]))}
+        except KeyError:
+            raise RunFileError(f"{where}: profile.library {prof['library']!r} is not a bundled "
+                               f"profile; choose from {', '.join(library.names())}") from None
     if not isinstance(prof, dict) or not isinstance(prof.get("path"), str):
-        raise RunFileError(f"{where}: needs [profile] with path = \"<organism profile .toml>\"")
+        raise RunFileError(f"{where}: needs [profile] with path = \"<organism profile .toml>\" "
+                           "or library = \"<bundled profile>\"")
     _keys(prof, ("path",), where, "profile")
     if "baseline" not in raw:
         raise RunFileError(f"{where}: missing table [baseline]")

@@ -112,3 +112,16 @@ def test_diurnal_must_be_known():
     raw["development"]["diurnal"] = "square"
     with pytest.raises(ProfileError, match="development.diurnal"):
         profile_from_dict(raw)
+
+
+def test_bundled_library_profiles_are_valid_and_invented():
+    from suitmap import library
+    from suitmap.profile import load_profile
+
+    assert len(library.names()) >= 3
+    roles = set()
+    for name in library.names():
+        p = load_profile(library.path(name))
+        assert "invented" in p.organism.name.lower() and "not a real" in p.organism.source
+        roles.add(p.organism.role)
+    assert {"pest", "pollinator", "crop"} <= roles
