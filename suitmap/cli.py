@@ -63,6 +63,8 @@ def _cmd_check(args) -> int:
         print(f"[{p.kind}] {p.name}: years {p.years[0]}-{p.years[1]}" + (f" ({tags})" if tags else ""))
         for line in pc.qa.lines()[1:]:
             print(line)
+        for note in pc.notes:
+            print(f"  note: {note}")
     print("usable: yes")
     return 0
 

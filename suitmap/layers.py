@@ -24,7 +24,7 @@ from .kernels.degree_days import degree_days_block
 from .metadata import LIMITING_FACTOR_CLASSES, MISSING_CLASS, layer_attrs
 from .profile import Profile
 from .seasons import (NORTH_DEFAULT, SOUTH_DEFAULT, SeasonWindow, complete_seasons,
-                      season_index, season_labels, time_fields)
+                      day360_to_365, season_index, season_labels, time_fields)
 
 #: Season statistics computed per cell and season-year, in this order.
 SEASON_STATS = ("degree_days", "first_generation_day", "cold_kill_days", "heat_kill_days",
@@ -153,6 +153,20 @@ def season_statistics(tmin: xr.DataArray, tmax: xr.DataArray, profile: Profile,
                                 stat=list(SEASON_STATS))
     ds = stats.to_dataset(dim="stat")
     ds = ds.transpose("season_year", "y", "x")
+    if calendar == "360_day":
+        # day-of-season outputs made comparable with 365-day calendars (same month and day)
+        fg = ds["first_generation_day"]
+        if per_hemisphere:
+            mapped = xr.where(south_da, xr.apply_ufunc(day360_to_365, fg, kwargs={"window": south_w},
+                                                       dask="parallelized", output_dtypes=[float]),
+                              xr.apply_ufunc(day360_to_365, fg, kwargs={"window": north_w},
+                                             dask="parallelized", output_dtypes=[float]))
+        else:
+            mapped = xr.apply_ufunc(day360_to_365, fg, kwargs={"window": north_w},
+                                    dask="parallelized", output_dtypes=[float])
+        ds["first_generation_day"] = mapped.transpose("season_year", "y", "x")
+        ds.attrs["day_of_season_note"] = ("360_day days of season mapped to a 365-day year keeping "
+                                          "month and day (first_generation_day)")
     ds.attrs.update({
         "seasons_northern": ",".join(map(str, seasons_n)),
         "seasons_southern": ",".join(map(str, seasons_s)),

@@ -107,6 +107,7 @@ def _history(run_path: Path) -> str:
 def _write_group(ds: xr.Dataset, folder: Path, group: str, kind: str, formats, manifest: Manifest,
                  history: str, prov: dict, inputs: str, organism: str) -> None:
     folder.mkdir(parents=True, exist_ok=True)
+    agreement = ds.attrs.get("agreement_level")
     for name in ds.data_vars:
         da = ds[name]
         if "geotiff" in formats:
@@ -114,15 +115,19 @@ def _write_group(ds: xr.Dataset, folder: Path, group: str, kind: str, formats, m
                           tags={"period_or_comparison": group, "suitmap_version": __version__})
             manifest.add(p, layer=name, period_or_comparison=group, format="geotiff")
         if "png" in formats:
-            what = "period" if kind == "period" else "comparison"
-            title = f"{organism}: {name.replace('_', ' ')}\n{what} {group}"
+            title = f"{organism}: {name.replace('_', ' ')}\n{kind} {group}"
+            hatch = None
+            agree_name = name.replace("ensemble_median_", "model_agreement_", 1)
+            if name.startswith("ensemble_median_change_") and agree_name in ds:
+                hatch = ds[agree_name] < (agreement or 2 / 3)
             p = plot_layer(da.rename(name), folder / f"{name}.png", title=title,
-                           caution=DEFAULT_CAUTION)
+                           caution=DEFAULT_CAUTION, hatch=hatch)
             manifest.add(p, layer=name, period_or_comparison=group, format="png")
     if "netcdf" in formats:
-        fname = "layers.nc" if kind == "period" else "changes.nc"
-        title = (f"suitmap layers for {organism}, period {group}" if kind == "period"
-                 else f"suitmap change layers for {organism}, {group}")
+        fname = {"period": "layers.nc", "comparison": "changes.nc", "ensemble": "ensemble.nc"}[kind]
+        title = {"period": f"suitmap layers for {organism}, period {group}",
+                 "comparison": f"suitmap change layers for {organism}, {group}",
+                 "ensemble": f"suitmap ensemble across climate models for {organism}, {group}"}[kind]
         extra = dict(prov)
         extra.update({"inputs": inputs, kind: group})
         extra.update({k: v for k, v in ds.attrs.items() if isinstance(v, (str, int, float))})
@@ -155,6 +160,11 @@ def write_outputs(layers, *, overwrite: bool = False) -> Path:
                                if k in (ds.attrs.get("baseline"), ds.attrs.get("scenario")))
             _write_group(ds, tmp / name, name, "comparison", formats, manifest, history, prov,
                          inputs, organism)
+        for name, ds in layers.ensembles.items():
+            ds = ds.assign_attrs(agreement_level=run.output.agreement_level)
+            inputs = "models: " + str(ds.attrs.get("models", ""))
+            _write_group(ds, tmp / name, name, "ensemble", formats, manifest, history, prov,
+                         inputs, organism)
         readme = tmp / "README.txt"
         readme.write_text(_readme_text(layers), encoding="utf-8")
         manifest.add(readme, layer="readme", period_or_comparison="all", format="text")
@@ -179,6 +189,9 @@ def _readme_text(layers) -> str:
     if layers.comparisons:
         lines.append("comparisons (scenario minus baseline):")
         lines.extend(f"  {c}" for c in layers.comparisons)
+    if layers.ensembles:
+        lines.append("ensembles across climate models (median, 10th/90th percentiles, agreement):")
+        lines.extend(f"  {e}: {ds.attrs.get('models', '')}" for e, ds in layers.ensembles.items())
     lines += ["", "Each folder holds one GeoTIFF (COG) and one PNG per layer and one CF-NetCDF",
               "with all layers; manifest.json lists every file with its SHA-256.", ""]
     return "\n".join(lines)

@@ -42,6 +42,7 @@ class PeriodClimate:
     swapped: int
     qa: "climate.ClimateQA | None" = None
     files: dict[str, list[str]] = field(default_factory=dict)
+    notes: list[str] = field(default_factory=list)
 
 
 def _as_run(run: RunFile | str | Path) -> RunFile:
@@ -101,10 +102,13 @@ def check_run(run: RunFile | str | Path) -> tuple[RunFile, Profile, list[PeriodC
     for period in run.periods:
         pc = open_period(period, profile, chunk_cells=run.chunk_cells, qa=True)
         opened.append(pc)
+    from .regrid import grids_match
+
     base = opened[0]
     for pc in opened[1:]:
-        climate.check_same_grid(base.tmin, pc.tmin, f"baseline '{base.period.name}'",
-                                f"scenario '{pc.period.name}'")
+        if not grids_match(base.tmin.isel(time=0), pc.tmin.isel(time=0)):
+            pc.notes.append(f"grid differs from the baseline's: its layers will be snapped to the "
+                            f"baseline grid (bilinear; classes by mode/nearest)")
     return run, profile, opened
 
 
@@ -117,6 +121,7 @@ class RunLayers:
     periods: dict[str, xr.Dataset]
     comparisons: dict[str, xr.Dataset]
     inputs: dict[str, dict[str, list[str]]]
+    ensembles: dict[str, xr.Dataset] = field(default_factory=dict)
 
     def compute(self, progress: bool = False, client=None) -> "RunLayers":
         """Compute every layer (one dask pass) and return the loaded results.
@@ -127,7 +132,9 @@ class RunLayers:
 
         names_p = list(self.periods)
         names_c = list(self.comparisons)
-        items = [self.periods[n] for n in names_p] + [self.comparisons[n] for n in names_c]
+        names_e = list(self.ensembles)
+        items = ([self.periods[n] for n in names_p] + [self.comparisons[n] for n in names_c]
+                 + [self.ensembles[n] for n in names_e])
         if client is not None:
             futures = client.compute(items)
             if progress:
@@ -142,9 +149,11 @@ class RunLayers:
                 done = dask.compute(*items)
         else:
             done = dask.compute(*items)
-        periods = dict(zip(names_p, done[: len(names_p)]))
-        comps = dict(zip(names_c, done[len(names_p):]))
-        return RunLayers(self.run, self.profile, periods, comps, self.inputs)
+        n_p, n_c = len(names_p), len(names_c)
+        periods = dict(zip(names_p, done[:n_p]))
+        comps = dict(zip(names_c, done[n_p:n_p + n_c]))
+        ens = dict(zip(names_e, done[n_p + n_c:]))
+        return RunLayers(self.run, self.profile, periods, comps, self.inputs, ens)
 
 
 def comparison_name(scenario: str, baseline: str) -> str:
@@ -157,16 +166,15 @@ def compute_run(run: RunFile | str | Path) -> RunLayers:
     profile = load_profile(run.profile_path)
     periods: dict[str, xr.Dataset] = {}
     inputs: dict[str, dict[str, list[str]]] = {}
-    base_clim = None
+    template = None
     for period in run.periods:
         pc = open_period(period, profile, chunk_cells=run.chunk_cells)
-        if base_clim is None:
-            base_clim = pc
-        else:
-            climate.check_same_grid(base_clim.tmin, pc.tmin, f"baseline '{base_clim.period.name}'",
-                                    f"scenario '{period.name}'")
         ds = compute_layers(pc.tmin, pc.tmax, profile, period.years, label=period.name)
         ds.attrs["tmin_tmax_swapped_cell_days"] = pc.swapped
+        if template is None:
+            template = ds  # the baseline's grid is the template of every comparison
+        else:
+            ds = snap_layers(ds, template)
         periods[period.name] = ds
         inputs[period.name] = pc.files
     comps = {}
@@ -174,7 +182,58 @@ def compute_run(run: RunFile | str | Path) -> RunLayers:
     for scen in run.scenarios:
         comps[comparison_name(scen.name, run.baseline.name)] = compare(
             base, periods[scen.name], suitable_level=run.output.suitable_level)
-    return RunLayers(run, profile, periods, comps, inputs)
+    ensembles = ensemble_groups(run, periods, comps)
+    return RunLayers(run, profile, periods, comps, inputs, ensembles)
+
+
+def snap_layers(ds: xr.Dataset, template: xr.Dataset) -> xr.Dataset:
+    """Put a period's layers on the template grid (bilinear; nearest/mode for classes)."""
+    from .regrid import grid_description, grids_match, snap_to_grid
+    from .writers.styles import is_class_layer
+
+    if grids_match(ds, template):
+        return ds
+    out = {}
+    for name, da in ds.data_vars.items():
+        kind = "class" if is_class_layer(name, da.attrs) else "continuous"
+        snapped = snap_to_grid(da, template, kind=kind)
+        snapped.attrs = {**da.attrs, "suitmap_regrid": snapped.attrs.get(
+            "suitmap_regrid", f"{'mode/nearest' if kind == 'class' else 'bilinear'} from "
+            f"{grid_description(ds)}")}
+        out[name] = snapped
+    snapped_ds = xr.Dataset(out, attrs={**ds.attrs, "regridded_from": grid_description(ds)})
+    for c in ("x", "y"):
+        snapped_ds[c].attrs = dict(template[c].attrs)
+    return snapped_ds.rio.write_crs(template.rio.crs)
+
+
+def ensemble_groups(run: RunFile, periods: dict[str, xr.Dataset],
+                    comps: dict[str, xr.Dataset]) -> dict[str, xr.Dataset]:
+    """Ensemble statistics per (pathway, period) over the scenarios' climate models.
+
+    Scenarios without ``model``/``pathway``/``period`` labels, and groups of a
+    single model, have no ensemble.
+    """
+    from .ensemble import ensemble_stats
+
+    groups: dict[tuple[str, str], dict[str, str]] = {}
+    for scen in run.scenarios:
+        if scen.model and scen.pathway and scen.period:
+            groups.setdefault((scen.pathway, scen.period), {})[scen.model] = scen.name
+    out = {}
+    for (pathway, period), members in sorted(groups.items()):
+        if len(members) < 2:
+            continue
+        layers = ensemble_stats({m: periods[n] for m, n in members.items()},
+                                agreement_level=run.output.agreement_level)
+        changes = ensemble_stats(
+            {m: comps[comparison_name(n, run.baseline.name)] for m, n in members.items()},
+            agreement_level=run.output.agreement_level)
+        ds = xr.merge([layers, changes], combine_attrs="override", compat="override")
+        ds.attrs.update({"pathway": pathway, "period": period, "models": ", ".join(sorted(members)),
+                         "n_models": len(members), "baseline": run.baseline.name})
+        out[f"ensemble_{pathway}_{period}"] = ds
+    return out
 
 
 def run(run: RunFile | str | Path, *, overwrite: bool = False, progress: bool = False,

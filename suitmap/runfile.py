@@ -43,6 +43,7 @@ class Output:
     dir: Path
     formats: tuple[str, ...] = FORMATS
     suitable_level: float = 0.5
+    agreement_level: float = 2 / 3
 
 
 @dataclass(frozen=True)
@@ -207,7 +208,7 @@ def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
     out = raw.get("output", {})
     if not isinstance(out, dict):
         raise RunFileError(f"{where}: [output] must be a table")
-    _keys(out, ("dir", "formats", "suitable_level"), where, "output")
+    _keys(out, ("dir", "formats", "suitable_level", "agreement_level"), where, "output")
     out_dir = out.get("dir", "results")
     if not isinstance(out_dir, str) or not out_dir:
         raise RunFileError(f"{where}: output.dir must be a folder name")
@@ -222,7 +223,11 @@ def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
     level = out.get("suitable_level", 0.5)
     if isinstance(level, bool) or not isinstance(level, (int, float)) or not 0 < level <= 1:
         raise RunFileError(f"{where}: output.suitable_level must be a number in (0, 1]")
-    output = Output(Path(_resolve(base, out_dir)), tuple(dict.fromkeys(formats)), float(level))
+    agree = out.get("agreement_level", 2 / 3)
+    if isinstance(agree, bool) or not isinstance(agree, (int, float)) or not 0 < agree <= 1:
+        raise RunFileError(f"{where}: output.agreement_level must be a number in (0, 1]")
+    output = Output(Path(_resolve(base, out_dir)), tuple(dict.fromkeys(formats)), float(level),
+                    float(agree))
 
     compute = raw.get("compute", {})
     if not isinstance(compute, dict):

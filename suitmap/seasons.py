@@ -102,3 +102,27 @@ def season_index(labels: np.ndarray, season_years: list[int]) -> list[tuple[int,
                 raise ValueError("season days are not contiguous")
             out.append((int(idx[0]), int(idx[-1]) + 1))
     return out
+
+
+_NOLEAP_DIM = np.array([31, 28, 31, 30, 31, 30, 31, 31, 30, 31, 30, 31], dtype=float)
+
+
+def day360_to_365(day_of_season: np.ndarray, window: SeasonWindow) -> np.ndarray:
+    """Map 1-based days of a season on the 360_day calendar to a 365-day year.
+
+    Each 360_day date keeps its month and its fraction of the month, so a
+    generation that completes on 360_day "15 June" lands on 15 June: days
+    of season become comparable with standard and noleap models.
+    """
+    d = np.asarray(day_of_season, dtype=float)
+    sm, sd = window.start
+    start360 = (sm - 1) * 30 + (min(sd, 30) - 1)          # 0-based day of year of season start
+    pos360 = (start360 + d - 1) % 360                       # 0-based day of year in 360_day
+    month = np.floor(pos360 / 30).astype(int)
+    frac = (pos360 - month * 30 + 0.5) / 30.0              # centre of the day within its month
+    cum = np.concatenate([[0.0], np.cumsum(_NOLEAP_DIM)])
+    month = np.clip(month, 0, 11)
+    pos365 = cum[month] + frac * _NOLEAP_DIM[month] - 0.5  # 0-based, fractional
+    start365 = cum[sm - 1] + (min(sd, int(_NOLEAP_DIM[sm - 1])) - 1)
+    out = (pos365 - start365) % 365 + 1
+    return np.where(np.isnan(d), np.nan, out)

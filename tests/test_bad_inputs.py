@@ -7,7 +7,6 @@ import sys
 
 
 from climate_fixtures import make_tmin_tmax, write_netcdf_daily
-from conftest import write_period
 from suitmap.cli import main
 
 
@@ -76,10 +75,13 @@ def test_missing_units(small_case, capsys):
     assert_clean_failure(small_case, capsys, "base_tmax.nc", "units")
 
 
-def test_mismatched_grids(small_case, capsys):
+def test_mismatched_tmin_tmax_grids(small_case, capsys):
+    """Tmin and Tmax of one period on different grids cannot be paired (scenarios on another
+    grid than the baseline are snapped instead, see test_batch.py)."""
     tmin, tmax = make_tmin_tmax(730, 4, 6, seed=2)
-    write_period(small_case["dir"] / "climate", "scen", tmin, tmax, start="2053-01-01")
-    msg = assert_clean_failure(small_case, capsys, "baseline", "warm")
+    write_netcdf_daily(small_case["dir"] / "climate" / "scen_tmax.nc", tmax, var="tmax",
+                       start="2053-01-01", crs="EPSG:4326")
+    msg = assert_clean_failure(small_case, capsys, "warm tmin", "warm tmax")
     assert "5" in msg and "6" in msg  # says how the shapes differ
 
 

@@ -44,3 +44,18 @@ def test_partial_window_and_360_day():
     assert np.count_nonzero(lab == 2001) == 8 * 30
     assert lab[0] == NO_SEASON
     assert complete_seasons(lab, w, cal, 2001, 2002) == [2001, 2002]
+
+
+def test_360_day_days_land_on_the_same_dates():
+    from suitmap.seasons import day360_to_365
+
+    whole = SeasonWindow((1, 1), (12, 31))
+    # 360_day 15 June is day 5*30+15 = 165 of the year; in a 365-day year 15 June is day 166
+    assert day360_to_365(np.array([165.0]), whole)[0] == pytest.approx(166.0, abs=0.6)
+    # 1 Jan -> 1 Jan, 30 Dec (day 360) -> 31 Dec region (day 364-365)
+    assert day360_to_365(np.array([1.0]), whole)[0] == pytest.approx(1.0, abs=0.6)
+    assert 363.5 <= day360_to_365(np.array([360.0]), whole)[0] <= 365.0
+    # a season from 1 July: 360_day 15 Aug is day 45 of the season; 15 Aug is day 46 from 1 July
+    july = SeasonWindow((7, 1), (6, 30))
+    assert day360_to_365(np.array([45.0]), july)[0] == pytest.approx(46.0, abs=0.6)
+    assert np.isnan(day360_to_365(np.array([np.nan]), whole)[0])

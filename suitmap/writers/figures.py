@@ -132,10 +132,26 @@ def _plot_continuous(fig, ax, da, layer, values, extent) -> None:
                   frameon=False, fontsize="small")
 
 
-def layer_figure(da: xr.DataArray, *, title: str, caution: str = DEFAULT_CAUTION) -> Figure:
+def _draw_hatch(ax, mask: np.ndarray, extent, label: str) -> None:
+    """Hatch the cells where ``mask`` is True (e.g. where climate models disagree)."""
+    if not mask.any():
+        return
+    ny, nx = mask.shape
+    x = np.linspace(extent[0], extent[1], nx + 1)
+    y = np.linspace(extent[3], extent[2], ny + 1)
+    ax.pcolor(x, y, np.ma.masked_where(~mask, np.ones(mask.shape)), hatch="////", alpha=0.0,
+              shading="flat", zorder=2)
+    ax.legend(handles=[Patch(facecolor="none", edgecolor="#333333", hatch="////", label=label)],
+              loc="upper left", bbox_to_anchor=(0.0, -0.08), frameon=False, fontsize="small")
+
+
+def layer_figure(da: xr.DataArray, *, title: str, caution: str = DEFAULT_CAUTION,
+                 hatch: xr.DataArray | None = None,
+                 hatch_label: str = "models disagree") -> Figure:
     """Draw one layer on a new :class:`~matplotlib.figure.Figure` (Agg canvas).
 
-    The map is ``figure.axes[0]``.  See :func:`plot_layer` for the parameters.
+    The map is ``figure.axes[0]``.  See :func:`plot_layer` for the parameters;
+    ``hatch`` is a boolean (y, x) mask on the same grid whose True cells are hatched.
 
     Raises
     ------
@@ -169,6 +185,10 @@ def layer_figure(da: xr.DataArray, *, title: str, caution: str = DEFAULT_CAUTION
         _plot_classes(fig, ax, da, layer, values, extent)
     else:
         _plot_continuous(fig, ax, da, layer, values, extent)
+    if hatch is not None:
+        h = hatch.squeeze(drop=True).transpose(*hatch.dims[-2:])
+        h = h.sel({h.dims[0]: da[ydim].values, h.dims[1]: da[xdim].values})
+        _draw_hatch(ax, np.asarray(h.values, dtype=bool), extent, hatch_label)
     ax.set_xlim(extent[0], extent[1])
     ax.set_ylim(extent[2], extent[3])
     if crs is not None and pyproj.CRS.from_user_input(crs.to_wkt()).is_geographic:
@@ -189,7 +209,8 @@ def layer_figure(da: xr.DataArray, *, title: str, caution: str = DEFAULT_CAUTION
 
 
 def plot_layer(da: xr.DataArray, path: str | os.PathLike, *, title: str,
-               caution: str = DEFAULT_CAUTION) -> Path:
+               caution: str = DEFAULT_CAUTION, hatch: xr.DataArray | None = None,
+               hatch_label: str = "models disagree") -> Path:
     """Draw one layer as a PNG map.
 
     Parameters
@@ -218,7 +239,7 @@ def plot_layer(da: xr.DataArray, path: str | os.PathLike, *, title: str,
     """
     final = Path(path)
     try:
-        fig = layer_figure(da, title=title, caution=caution)
+        fig = layer_figure(da, title=title, caution=caution, hatch=hatch, hatch_label=hatch_label)
     except OutputError as exc:
         raise OutputError(f"cannot draw {final.name}: {exc}") from exc
     with atomic_path(final) as tmp:
