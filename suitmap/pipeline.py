@@ -49,6 +49,38 @@ def _as_run(run: RunFile | str | Path) -> RunFile:
     return run if isinstance(run, RunFile) else load_run(run)
 
 
+def _open_role(src, role: str, label: str, years: tuple[int, int], extra: int):
+    paths: list[Path] = []
+    for pattern in src.patterns:
+        paths.extend(climate.resolve_paths(pattern, what=f"{label} {role}"))
+    da = climate.open_climate(paths, role, variable=src.variable, label=label)
+    first, last = years
+    climate.select_years(da, first, last, label=f"{label} {role}")
+    y = da["time"].dt.year
+    return da.isel(time=np.flatnonzero(((y >= first) & (y <= last + extra)).values)), paths
+
+
+def delta_downscaled(period: Period, baseline: "PeriodClimate", profile: Profile) -> PeriodClimate:
+    """Daily climate of a scenario by delta change: the baseline's observed days plus the
+    model's smoothed change (future minus its own historical run), on the baseline grid."""
+    from .delta import apply_deltas, monthly_deltas
+
+    d = period.delta
+    out, files = {}, {}
+    for role in ("tmin", "tmax"):
+        fut, fpaths = _open_role(getattr(period, role), role, period.name, period.years, 0)
+        hist, hpaths = _open_role(getattr(d, f"historical_{role}"), role,
+                                  f"{period.name} historical", d.historical_years, 0)
+        deltas = monthly_deltas(hist, fut, smoothing=d.smoothing, window_days=d.window_days)
+        base = getattr(baseline, role)
+        out[role] = apply_deltas(base, deltas, template=base, target_years=None)
+        files[role] = [str(p) for p in fpaths + hpaths]
+    tmin, tmax, swapped = climate.repair_tmin_tmax(out["tmin"], out["tmax"])
+    pc = PeriodClimate(period, tmin, tmax, swapped, None, files)
+    pc.notes.append(f"delta change ({d.smoothing}) onto baseline '{baseline.period.name}'")
+    return pc
+
+
 def open_period(period: Period, profile: Profile, *, chunk_cells: int | None = None,
                 qa: bool = False) -> PeriodClimate:
     """Open, check and normalise the daily Tmin/Tmax of one period.
@@ -167,9 +199,25 @@ def compute_run(run: RunFile | str | Path) -> RunLayers:
     periods: dict[str, xr.Dataset] = {}
     inputs: dict[str, dict[str, list[str]]] = {}
     template = None
+    base_clim = None
     for period in run.periods:
-        pc = open_period(period, profile, chunk_cells=run.chunk_cells)
-        ds = compute_layers(pc.tmin, pc.tmax, profile, period.years, label=period.name)
+        if period.delta is not None:
+            pc = delta_downscaled(period, base_clim, profile)
+            years = run.baseline.years  # the baseline's days, shifted by the model's change
+        else:
+            pc = open_period(period, profile, chunk_cells=run.chunk_cells)
+            years = period.years
+        if base_clim is None:
+            base_clim = pc
+        ds = compute_layers(pc.tmin, pc.tmax, profile, years, label=period.name)
+        if period.delta is not None:
+            ds.attrs["downscaling"] = (f"delta change, {period.delta.smoothing} deltas "
+                                       f"(window {period.delta.window_days} d) of model years "
+                                       f"{period.years[0]}-{period.years[1]} minus "
+                                       f"{period.delta.historical_years[0]}-"
+                                       f"{period.delta.historical_years[1]}, added to baseline "
+                                       f"{run.baseline.years[0]}-{run.baseline.years[1]}")
+            ds.attrs["years"] = f"{period.years[0]}-{period.years[1]}"
         ds.attrs["tmin_tmax_swapped_cell_days"] = pc.swapped
         if template is None:
             template = ds  # the baseline's grid is the template of every comparison

@@ -36,6 +36,18 @@ class Period:
     model: str | None = None      # climate model, for ensembles
     pathway: str | None = None    # emissions pathway, for ensembles
     period: str | None = None     # period label (e.g. "mid-century"), for ensembles
+    delta: "DeltaChange | None" = None  # delta-change downscaling onto the baseline
+
+
+@dataclass(frozen=True)
+class DeltaChange:
+    """Use a model's change (future minus its own historical run), not its daily values."""
+
+    historical_tmin: ClimateSource
+    historical_tmax: ClimateSource
+    historical_years: tuple[int, int]
+    smoothing: str = "doy"        # "doy" (smoothed day-of-year) or "monthly"
+    window_days: int = 31
 
 
 @dataclass(frozen=True)
@@ -100,7 +112,8 @@ def _period(table: Any, name_key: str, base: Path, where: str, kind: str,
             default_name: str | None = None) -> Period:
     if not isinstance(table, dict):
         raise RunFileError(f"{where}: [{name_key}] must be a table")
-    _keys(table, ("name", "years", "tmin", "tmax", "model", "pathway", "period"), where, name_key)
+    _keys(table, ("name", "years", "tmin", "tmax", "model", "pathway", "period", "downscale"),
+          where, name_key)
     for key in ("model", "pathway", "period"):
         if key in table and not (isinstance(table[key], str) and _NAME.match(table[key])):
             raise RunFileError(f"{where}: {name_key}.{key} must be a short name, got {table[key]!r}")
@@ -128,7 +141,35 @@ def _period(table: Any, name_key: str, base: Path, where: str, kind: str,
         model=table.get("model"),
         pathway=table.get("pathway"),
         period=table.get("period"),
+        delta=_delta(table.get("downscale"), f"{name_key}.downscale", base, where),
     )
+
+
+def _delta(raw: Any, key: str, base: Path, where: str) -> DeltaChange | None:
+    if raw is None:
+        return None
+    if not isinstance(raw, dict):
+        raise RunFileError(f"{where}: {key} must be a table, e.g. {{ method = \"delta\", ... }}")
+    _keys(raw, ("method", "historical_tmin", "historical_tmax", "historical_years", "smoothing",
+                "window_days"), where, key)
+    if raw.get("method", "delta") != "delta":
+        raise RunFileError(f"{where}: {key}.method must be \"delta\" (the only method so far)")
+    for k in ("historical_tmin", "historical_tmax", "historical_years"):
+        if k not in raw:
+            raise RunFileError(f"{where}: {key} needs {k} (the model's own historical run)")
+    years = raw["historical_years"]
+    if (not isinstance(years, list) or len(years) != 2 or not all(
+            isinstance(y, int) and not isinstance(y, bool) for y in years) or years[0] > years[1]):
+        raise RunFileError(f"{where}: {key}.historical_years must be [first, last]")
+    smoothing = raw.get("smoothing", "doy")
+    if smoothing not in ("doy", "monthly"):
+        raise RunFileError(f"{where}: {key}.smoothing must be \"doy\" or \"monthly\"")
+    window = raw.get("window_days", 31)
+    if isinstance(window, bool) or not isinstance(window, int) or window < 1 or window % 2 == 0:
+        raise RunFileError(f"{where}: {key}.window_days must be an odd whole number of days")
+    return DeltaChange(_source(raw["historical_tmin"], f"{key}.historical_tmin", base, where),
+                       _source(raw["historical_tmax"], f"{key}.historical_tmax", base, where),
+                       (years[0], years[1]), smoothing, window)
 
 
 def _scenario_sets(raw: Any, base: Path, where: str) -> list[Period]:
