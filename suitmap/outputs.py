@@ -15,7 +15,6 @@ Layout under ``output.dir``::
 
 from __future__ import annotations
 
-import datetime as _dt
 import json
 import os
 import shutil
@@ -27,6 +26,7 @@ from . import __version__
 from .errors import OutputError
 from .writers.cog import write_cog
 from .writers.figures import DEFAULT_CAUTION, plot_layer
+from .writers.atomic import atomic_write_text
 from .writers.manifest import Manifest
 from .writers.netcdf import write_netcdf
 
@@ -100,8 +100,8 @@ def _provenance(layers) -> dict:
 
 
 def _history(run_path: Path) -> str:
-    now = _dt.datetime.now(_dt.timezone.utc).strftime("%Y-%m-%dT%H:%M:%SZ")
-    return f"{now}: suitmap {__version__} run {run_path.name}"
+    # no wall-clock time: a resumed run must give byte-identical files to an uninterrupted one
+    return f"suitmap {__version__} run {run_path.name}"
 
 
 def _write_group(ds: xr.Dataset, folder: Path, group: str, kind: str, formats, manifest: Manifest,
@@ -136,40 +136,57 @@ def _write_group(ds: xr.Dataset, folder: Path, group: str, kind: str, formats, m
         manifest.add(p, layer="all", period_or_comparison=group, format="netcdf")
 
 
-def write_outputs(layers, *, overwrite: bool = False) -> Path:
+def write_outputs(layers, *, overwrite: bool = False, folder=None) -> Path:
     """Write computed :class:`~suitmap.pipeline.RunLayers` into ``output.dir``.
+
+    Every file is written under a temporary name and renamed; files that an
+    earlier run of the same run file listed and this one does not are removed;
+    ``manifest.json`` comes last.  ``folder`` is an open
+    :class:`~suitmap.resume.OutputFolder` (``suitmap.run`` passes its own);
+    without it the folder is opened (and locked) here.
 
     Returns the path of ``manifest.json``.
     """
+    from .resume import OutputFolder
+
+    if folder is None:
+        with OutputFolder(layers.run.output.dir, layers.run.path, overwrite) as f:
+            return write_outputs(layers, folder=f)
     run = layers.run
-    final = run.output.dir
+    root = folder.path
     formats = run.output.formats
     prov = _provenance(layers)
     history = _history(run.path)
     organism = layers.profile.organism.name
-    with staged_folder(final, overwrite) as tmp:
-        manifest = Manifest(tmp, attrs=prov)
-        for name, ds in layers.periods.items():
-            files = layers.inputs.get(name, {})
-            inputs = "; ".join(Path(f).name for role in ("tmin", "tmax") for f in files.get(role, []))
-            _write_group(ds, tmp / name, name, "period", formats, manifest, history, prov,
-                         inputs, organism)
-        for name, ds in layers.comparisons.items():
-            inputs = "; ".join(f"{k}: " + ", ".join(Path(f).name for f in v.get("tmin", []) + v.get("tmax", []))
-                               for k, v in layers.inputs.items()
-                               if k in (ds.attrs.get("baseline"), ds.attrs.get("scenario")))
-            _write_group(ds, tmp / name, name, "comparison", formats, manifest, history, prov,
-                         inputs, organism)
-        for name, ds in layers.ensembles.items():
-            ds = ds.assign_attrs(agreement_level=run.output.agreement_level)
-            inputs = "models: " + str(ds.attrs.get("models", ""))
-            _write_group(ds, tmp / name, name, "ensemble", formats, manifest, history, prov,
-                         inputs, organism)
-        readme = tmp / "README.txt"
-        readme.write_text(_readme_text(layers), encoding="utf-8")
-        manifest.add(readme, layer="readme", period_or_comparison="all", format="text")
-        manifest.write(tmp / "manifest.json")
-    return final / "manifest.json"
+    before = folder.previous_outputs()
+    (root / "manifest.json").unlink(missing_ok=True)  # incomplete until written again
+    manifest = Manifest(root, attrs=prov)
+    for name, ds in layers.periods.items():
+        files = layers.inputs.get(name, {})
+        inputs = "; ".join(Path(f).name for role in ("tmin", "tmax") for f in files.get(role, []))
+        _write_group(ds, root / name, name, "period", formats, manifest, history, prov,
+                     inputs, organism)
+    for name, ds in layers.comparisons.items():
+        inputs = "; ".join(f"{k}: " + ", ".join(Path(f).name for f in v.get("tmin", []) + v.get("tmax", []))
+                           for k, v in layers.inputs.items()
+                           if k in (ds.attrs.get("baseline"), ds.attrs.get("scenario")))
+        _write_group(ds, root / name, name, "comparison", formats, manifest, history, prov,
+                     inputs, organism)
+    for name, ds in layers.ensembles.items():
+        ds = ds.assign_attrs(agreement_level=run.output.agreement_level)
+        inputs = "models: " + str(ds.attrs.get("models", ""))
+        _write_group(ds, root / name, name, "ensemble", formats, manifest, history, prov,
+                     inputs, organism)
+    readme = atomic_write_text(root / "README.txt", _readme_text(layers))
+    manifest.add(readme, layer="readme", period_or_comparison="all", format="text")
+    listed = {e.path for e in manifest.entries}
+    for rel in before:  # outputs of an earlier configuration of this run file
+        if rel not in listed and ".." not in Path(rel).parts:
+            (root / rel).unlink(missing_ok=True)
+    for sub in root.iterdir():
+        if sub.is_dir() and sub.name != ".suitmap" and not any(sub.iterdir()):
+            sub.rmdir()
+    return manifest.write(root / "manifest.json")
 
 
 def _readme_text(layers) -> str:

@@ -9,6 +9,7 @@
 from __future__ import annotations
 
 import math
+import warnings
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -17,9 +18,10 @@ import xarray as xr
 
 from . import climate
 from .compare import compare
-from .errors import InputError
+from .errors import InputError, SuitmapWarning
 from .layers import compute_layers, season_windows
 from .profile import Profile, load_profile
+from .resume import period_key
 from .runfile import Period, RunFile, load_run
 
 #: Target size (bytes) of one spatial chunk of one daily variable in float32.
@@ -39,7 +41,7 @@ class PeriodClimate:
     period: Period
     tmin: xr.DataArray
     tmax: xr.DataArray
-    swapped: int
+    swapped: "xr.DataArray | int"   # cell-days with Tmin > Tmax (lazy until computed)
     qa: "climate.ClimateQA | None" = None
     files: dict[str, list[str]] = field(default_factory=dict)
     notes: list[str] = field(default_factory=list)
@@ -75,7 +77,7 @@ def delta_downscaled(period: Period, baseline: "PeriodClimate", profile: Profile
         base = getattr(baseline, role)
         out[role] = apply_deltas(base, deltas, template=base, target_years=None)
         files[role] = [str(p) for p in fpaths + hpaths]
-    tmin, tmax, swapped = climate.repair_tmin_tmax(out["tmin"], out["tmax"])
+    tmin, tmax, swapped = _swap_lazily(out["tmin"], out["tmax"])
     pc = PeriodClimate(period, tmin, tmax, swapped, None, files)
     pc.notes.append(f"delta change ({d.smoothing}) onto baseline '{baseline.period.name}'")
     return pc
@@ -119,8 +121,17 @@ def open_period(period: Period, profile: Profile, *, chunk_cells: int | None = N
     tmin = tmin.chunk(chunks)
     tmax = tmax.chunk(chunks)
     report = climate.qa_summary(tmin, tmax, period.name) if qa else None
-    tmin, tmax, swapped = climate.repair_tmin_tmax(tmin, tmax)
+    tmin, tmax, swapped = _swap_lazily(tmin, tmax)
     return PeriodClimate(period, tmin, tmax, swapped, report, files)
+
+
+def _swap_lazily(tmin: xr.DataArray, tmax: xr.DataArray):
+    """Swap Tmin/Tmax where Tmin > Tmax; the count stays lazy (computed with the layers)."""
+    tmax = tmax.assign_coords(time=tmin["time"], y=tmin["y"], x=tmin["x"])
+    swap = tmin > tmax
+    new_min, new_max = tmin.where(~swap, tmax), tmax.where(~swap, tmin)
+    new_min.attrs, new_max.attrs = dict(tmin.attrs), dict(tmax.attrs)
+    return new_min, new_max, xr.DataArray(swap.sum().data)
 
 
 def check_run(run: RunFile | str | Path) -> tuple[RunFile, Profile, list[PeriodClimate]]:
@@ -139,8 +150,8 @@ def check_run(run: RunFile | str | Path) -> tuple[RunFile, Profile, list[PeriodC
     base = opened[0]
     for pc in opened[1:]:
         if not grids_match(base.tmin.isel(time=0), pc.tmin.isel(time=0)):
-            pc.notes.append(f"grid differs from the baseline's: its layers will be snapped to the "
-                            f"baseline grid (bilinear; classes by mode/nearest)")
+            pc.notes.append("grid differs from the baseline's: its layers will be snapped to the "
+                            "baseline grid (bilinear; classes by mode/nearest)")
     return run, profile, opened
 
 
@@ -154,6 +165,7 @@ class RunLayers:
     comparisons: dict[str, xr.Dataset]
     inputs: dict[str, dict[str, list[str]]]
     ensembles: dict[str, xr.Dataset] = field(default_factory=dict)
+    keys: dict[str, str] = field(default_factory=dict)  # period -> hash of its inputs
 
     def compute(self, progress: bool = False, client=None) -> "RunLayers":
         """Compute every layer (one dask pass) and return the loaded results.
@@ -182,10 +194,10 @@ class RunLayers:
         else:
             done = dask.compute(*items)
         n_p, n_c = len(names_p), len(names_c)
-        periods = dict(zip(names_p, done[:n_p]))
+        periods = {n: finish_period(d) for n, d in zip(names_p, done[:n_p])}
         comps = dict(zip(names_c, done[n_p:n_p + n_c]))
         ens = dict(zip(names_e, done[n_p + n_c:]))
-        return RunLayers(self.run, self.profile, periods, comps, self.inputs, ens)
+        return RunLayers(self.run, self.profile, periods, comps, self.inputs, ens, self.keys)
 
 
 def comparison_name(scenario: str, baseline: str) -> str:
@@ -198,6 +210,7 @@ def compute_run(run: RunFile | str | Path) -> RunLayers:
     profile = load_profile(run.profile_path)
     periods: dict[str, xr.Dataset] = {}
     inputs: dict[str, dict[str, list[str]]] = {}
+    keys: dict[str, str] = {}
     template = None
     base_clim = None
     for period in run.periods:
@@ -218,20 +231,40 @@ def compute_run(run: RunFile | str | Path) -> RunLayers:
                                        f"{period.delta.historical_years[1]}, added to baseline "
                                        f"{run.baseline.years[0]}-{run.baseline.years[1]}")
             ds.attrs["years"] = f"{period.years[0]}-{period.years[1]}"
-        ds.attrs["tmin_tmax_swapped_cell_days"] = pc.swapped
         if template is None:
             template = ds  # the baseline's grid is the template of every comparison
         else:
             ds = snap_layers(ds, template)
+        ds["tmin_tmax_swapped_cell_days"] = pc.swapped
         periods[period.name] = ds
         inputs[period.name] = pc.files
+        keys[period.name] = period_key(profile.to_dict(), period, pc.files,
+                                       None if period is run.baseline else inputs[run.baseline.name])
+    comps, ensembles = derive(run, periods)
+    return RunLayers(run, profile, periods, comps, inputs, ensembles, keys)
+
+
+def finish_period(ds: xr.Dataset) -> xr.Dataset:
+    """Move the computed Tmin > Tmax count from a variable to an attribute (warning if > 0)."""
+    if "tmin_tmax_swapped_cell_days" not in ds:
+        return ds
+    n = int(ds["tmin_tmax_swapped_cell_days"].values)
+    ds = ds.drop_vars("tmin_tmax_swapped_cell_days")
+    ds.attrs["tmin_tmax_swapped_cell_days"] = n
+    if n:
+        warnings.warn(f"period '{ds.attrs.get('period')}': {n} cell-days had Tmin > Tmax; the two "
+                      "values were swapped there", SuitmapWarning, stacklevel=2)
+    return ds
+
+
+def derive(run: RunFile, periods: dict[str, xr.Dataset]):
+    """Comparisons and ensembles from period layers (lazy or computed)."""
     comps = {}
     base = periods[run.baseline.name]
     for scen in run.scenarios:
         comps[comparison_name(scen.name, run.baseline.name)] = compare(
             base, periods[scen.name], suitable_level=run.output.suitable_level)
-    ensembles = ensemble_groups(run, periods, comps)
-    return RunLayers(run, profile, periods, comps, inputs, ensembles)
+    return comps, ensemble_groups(run, periods, comps)
 
 
 def snap_layers(ds: xr.Dataset, template: xr.Dataset) -> xr.Dataset:
@@ -284,12 +317,33 @@ def ensemble_groups(run: RunFile, periods: dict[str, xr.Dataset],
     return out
 
 
+def _compute_one(ds: xr.Dataset, client, progress: bool, label: str) -> xr.Dataset:
+    import dask
+
+    if client is not None:
+        fut = client.compute(ds)
+        if progress:
+            from dask.distributed import progress as dprogress
+
+            dprogress(fut)
+        return fut.result()
+    if progress:
+        from tqdm.dask import TqdmCallback
+
+        with TqdmCallback(desc=label, leave=False):
+            return dask.compute(ds)[0]
+    return dask.compute(ds)[0]
+
+
 def run(run: RunFile | str | Path, *, overwrite: bool = False, progress: bool = False,
         workers: int | None = None, scheduler_address: str | None = None) -> Path:
-    """Compute every layer of a run file and write all outputs.
+    """Compute every layer of a run file and write all outputs; resumable.
 
-    The output folder is checked before any computation (an existing one is
-    refused unless ``overwrite``) and appears only when complete.  ``workers``
+    Every input is opened and checked before the output folder is touched.  A
+    folder made by another run file is refused unless ``overwrite``.  Each
+    period's layers are cached under ``<output.dir>/.suitmap/`` as soon as they
+    are computed; a rerun (after a crash, a kill, or a change of inputs or
+    profile) recomputes only the periods whose inputs changed.  ``workers``
     starts a local dask.distributed cluster; ``scheduler_address`` uses an
     existing one; by default dask's threaded scheduler runs the graph.
 
@@ -298,12 +352,25 @@ def run(run: RunFile | str | Path, *, overwrite: bool = False, progress: bool = 
     pathlib.Path
         The ``manifest.json`` of the written outputs.
     """
-    from .outputs import check_output_dir, write_outputs
+    from .outputs import write_outputs
+    from .resume import OutputFolder
     from .scheduling import scheduler
 
     run = _as_run(run)
-    check_output_dir(run.output.dir, overwrite)
+    folder = OutputFolder(run.output.dir, run.path, overwrite)
+    folder.check()
     lazy = compute_run(run)
-    with scheduler(workers, scheduler_address) as client:
-        layers = lazy.compute(progress=progress, client=client)
-    return write_outputs(layers, overwrite=overwrite)
+    periods: dict[str, xr.Dataset] = {}
+    with folder:
+        with scheduler(workers, scheduler_address) as client:
+            n = len(lazy.periods)
+            for i, (name, ds) in enumerate(lazy.periods.items(), 1):
+                key = lazy.keys[name]
+                got = folder.load(name, key)
+                if got is None:
+                    computed = finish_period(_compute_one(ds, client, progress, f"{i}/{n} {name}"))
+                    got = folder.store(name, key, computed)
+                periods[name] = got
+        comps, ens = derive(run, periods)
+        layers = RunLayers(run, lazy.profile, periods, comps, lazy.inputs, ens, lazy.keys)
+        return write_outputs(layers, folder=folder)

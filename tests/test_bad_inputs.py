@@ -123,8 +123,11 @@ def test_existing_output_is_not_overwritten(small_case, capsys):
     assert sorted(p.name for p in out.iterdir()) == ["mine.txt"]
 
 
-def test_failure_mid_run_leaves_nothing(small_case, capsys, monkeypatch):
-    """A writer failing after some files exist must not leave a partial folder."""
+def test_failure_mid_run_leaves_no_broken_file_and_resumes(small_case, capsys, monkeypatch):
+    """A writer failing after some files exist: no half-written file, no manifest (the run is
+    visibly incomplete), and a rerun of the same run file completes it."""
+    import rasterio
+
     import suitmap.outputs as outputs
 
     calls = {"n": 0}
@@ -139,7 +142,16 @@ def test_failure_mid_run_leaves_nothing(small_case, capsys, monkeypatch):
     monkeypatch.setattr(outputs, "write_cog", flaky)
     code, _, err = run_cli(["run", str(small_case["run"])], capsys)
     assert code == 1 and "Traceback" not in err and len(err.strip().splitlines()) == 1
-    assert leftovers(small_case["dir"]) == []
+    out = small_case["dir"] / "results"
+    assert not (out / "manifest.json").exists()
+    assert not [p for p in out.rglob("*") if ".tmp" in p.name or "partial" in p.name]
+    for tif in out.rglob("*.tif"):
+        with rasterio.open(tif) as src:
+            src.read(1)
+    monkeypatch.setattr(outputs, "write_cog", real)
+    code, _, err = run_cli(["run", str(small_case["run"])], capsys)
+    assert code == 0, err
+    assert (out / "manifest.json").is_file()
 
 
 def test_exit_code_of_the_real_process(small_case):

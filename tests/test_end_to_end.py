@@ -37,7 +37,8 @@ def test_manifest_lists_every_file_with_correct_checksum(demo):
     root = demo[0] / "results"
     manifest = json.loads((root / "manifest.json").read_text())
     listed = {e["path"]: e for e in manifest["entries"]}
-    on_disk = {p.relative_to(root).as_posix() for p in root.rglob("*") if p.is_file()}
+    on_disk = {p.relative_to(root).as_posix() for p in root.rglob("*")
+               if p.is_file() and ".suitmap" not in p.parts}  # the run's cache and state
     assert on_disk - {"manifest.json"} == set(listed)
     for rel, e in listed.items():
         # SHA-256 computed here with hashlib, independently of suitmap's writer
@@ -113,17 +114,30 @@ def test_pngs_written_for_every_layer(demo):
         assert png.is_file() and png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
 
 
-def test_rerun_refuses_then_overwrites(demo):
+def digest(root):
+    return {p.relative_to(root).as_posix(): hashlib.sha256(p.read_bytes()).hexdigest()
+            for p in root.rglob("*") if p.is_file() and ".suitmap" not in p.parts}
+
+
+def test_rerun_reuses_cache_and_refuses_foreign_folders(demo):
     folder = demo[0]
+    before = digest(folder / "results")
+    # the same run file again: every period comes from the cache, files are byte-identical
     proc = subprocess.run([sys.executable, "-m", "suitmap", "run", str(folder / "demo_run.toml"),
-                           "--quiet"], capture_output=True, text=True)
-    assert proc.returncode == 2 and "--overwrite" in proc.stderr
-    before = (folder / "results" / "manifest.json").stat().st_mtime_ns
-    proc = subprocess.run([sys.executable, "-m", "suitmap", "run", str(folder / "demo_run.toml"),
-                           "--quiet", "--overwrite"], capture_output=True, text=True)
+                           "--quiet"], capture_output=True, text=True, cwd=folder)
     assert proc.returncode == 0, proc.stderr
-    assert (folder / "results" / "manifest.json").stat().st_mtime_ns != before
-    assert not [p for p in folder.iterdir() if p.name.startswith(".results")]
+    assert digest(folder / "results") == before
+    # another run file pointing at the same folder is refused without --overwrite
+    other = folder / "other_run.toml"
+    other.write_text((folder / "demo_run.toml").read_text())
+    proc = subprocess.run([sys.executable, "-m", "suitmap", "run", str(other), "--quiet"],
+                          capture_output=True, text=True, cwd=folder)
+    assert proc.returncode == 2 and "--overwrite" in proc.stderr
+    proc = subprocess.run([sys.executable, "-m", "suitmap", "run", str(other), "--quiet",
+                           "--overwrite"], capture_output=True, text=True, cwd=folder)
+    assert proc.returncode == 0, proc.stderr
+    after = digest(folder / "results")
+    assert set(after) == set(before)
 
 
 def test_check_prints_qa_summary(demo):
