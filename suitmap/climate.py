@@ -338,6 +338,28 @@ def _drop_overlap(da: xr.DataArray, what: str) -> xr.DataArray:
     return da
 
 
+def _is_monthly(times: np.ndarray) -> bool:
+    if times.size < 2:
+        return False
+    return 27.5 <= float(np.median(np.diff(_days(times)))) <= 31.5
+
+
+def _check_monthly(times: np.ndarray, what: str) -> None:
+    ym = np.array([int(t.year) * 12 + int(t.month) - 1 for t in _as_dates(times)])
+    if np.any(np.diff(ym) != 1):
+        i = int(np.argmax(np.diff(ym) != 1))
+        raise InputError(f"{what}: monthly values must be consecutive months; "
+                         f"{_iso(times[i])} is followed by {_iso(times[i + 1])}")
+
+
+def _as_dates(times: np.ndarray):
+    if np.issubdtype(np.asarray(times).dtype, np.datetime64):
+        import pandas as pd
+
+        return list(pd.DatetimeIndex(times))
+    return list(times)
+
+
 def _check_daily(times: np.ndarray, what: str) -> None:
     if times.size < 2:
         return
@@ -368,7 +390,7 @@ def _axis_attrs(crs: CRS) -> dict:
 
 
 def open_climate(paths, role: str, *, variable: str | None = None, chunks: dict | None = None,
-                 label: str = "") -> xr.DataArray:
+                 label: str = "", allow_monthly: bool = False) -> xr.DataArray:
     """Open daily ``tmin`` or ``tmax`` from NetCDF/GeoTIFF files as one lazy °C array.
 
     Parameters
@@ -384,6 +406,10 @@ def open_climate(paths, role: str, *, variable: str | None = None, chunks: dict 
         always one chunk; a ``time`` key other than ``-1`` is refused.
     label : str
         Name of the input (e.g. ``"baseline tmin"``) used in messages.
+    allow_monthly : bool
+        Accept monthly means too (one value per calendar month, consecutive
+        months, or 12 months of a climatology); such arrays get
+        ``attrs["frequency"] = "monthly"``.  Daily arrays get ``"daily"``.
 
     Returns
     -------
@@ -425,7 +451,12 @@ def open_climate(paths, role: str, *, variable: str | None = None, chunks: dict 
     names = "; ".join(q["path"].name for q in pieces)
     if len(pieces) > 1:
         da = _drop_overlap(da, f"{label or role} ({names})")
-    _check_daily(da["time"].values, f"{label or role} ({names})")
+    if allow_monthly and _is_monthly(da["time"].values):
+        _check_monthly(da["time"].values, f"{label or role} ({names})")
+        frequency = "monthly"
+    else:
+        _check_daily(da["time"].values, f"{label or role} ({names})")
+        frequency = "daily"
     da = da.chunk({"time": -1, "y": cy, "x": cx})
     for dim, attrs in _axis_attrs(crs).items():
         da[dim].attrs = attrs
@@ -438,7 +469,10 @@ def open_climate(paths, role: str, *, variable: str | None = None, chunks: dict 
                 "cell_methods": f"time: {stat}", "suitmap_role": role, "source_files": names,
                 "source_variable": "; ".join(dict.fromkeys(q["variable"] for q in pieces)),
                 "original_units": "; ".join(dict.fromkeys(str(q["units"]) for q in pieces)),
-                "calendar": p0["calendar"]}
+                "calendar": p0["calendar"], "frequency": frequency}
+    if frequency == "monthly":
+        da.attrs["long_name"] = f"monthly mean of daily {stat} air temperature"
+        da.attrs["cell_methods"] = f"time: {stat} within days time: mean over days"
     return da
 
 

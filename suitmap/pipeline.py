@@ -84,14 +84,18 @@ def delta_downscaled(period: Period, baseline: "PeriodClimate", profile: Profile
 
 
 def open_period(period: Period, profile: Profile, *, chunk_cells: int | None = None,
-                qa: bool = False) -> PeriodClimate:
+                qa: bool = False, monthly_route: str = "interpolate") -> PeriodClimate:
     """Open, check and normalise the daily Tmin/Tmax of one period.
 
     The data are limited to the period's years (plus the following year
     where a season wraps the new year), swapped where Tmin > Tmax (with a
     warning) and re-chunked: the whole time axis in one chunk, square spatial
-    chunks (see :func:`chunk_side`).
+    chunks (see :func:`chunk_side`).  Monthly inputs go through
+    :mod:`suitmap.monthly_input`: interpolated to days (``monthly_route =
+    "interpolate"``) or kept monthly for the quick ``"normal"`` route.
     """
+    from . import monthly_input
+
     arrays = {}
     files = {}
     for role in ("tmin", "tmax"):
@@ -100,15 +104,25 @@ def open_period(period: Period, profile: Profile, *, chunk_cells: int | None = N
         for pattern in src.patterns:
             paths.extend(climate.resolve_paths(pattern, what=f"{period.name} {role}"))
         files[role] = [str(p) for p in paths]
-        da = climate.open_climate(paths, role, variable=src.variable, label=period.name)
+        da = climate.open_climate(paths, role, variable=src.variable, label=period.name,
+                                  allow_monthly=True)
         first, last = period.years
-        climate.select_years(da, first, last, label=f"{period.name} {role}")
+        if da.attrs.get("frequency") == "monthly":
+            if monthly_route == "normal":
+                arrays[role] = da
+                continue
+            da = monthly_input.to_daily(da, period.years)
+        else:
+            climate.select_years(da, first, last, label=f"{period.name} {role}")
         north, south, _ = season_windows(profile)
         extra = 1 if (north.wraps or south.wraps) else 0
         years = da["time"].dt.year
         da = da.isel(time=np.flatnonzero(((years >= first) & (years <= last + extra)).values))
         arrays[role] = da
     tmin, tmax = arrays["tmin"], arrays["tmax"]
+    if (tmin.attrs.get("frequency") == "monthly") != (tmax.attrs.get("frequency") == "monthly"):
+        raise InputError(f"{period.name}: one of tmin/tmax is daily and the other monthly; "
+                         "give both at the same time step")
     climate.check_same_grid(tmin, tmax, f"{period.name} tmin", f"{period.name} tmax")
     if tmin.sizes["time"] != tmax.sizes["time"] or not np.array_equal(
             tmin["time"].values, tmax["time"].values):
@@ -218,11 +232,23 @@ def compute_run(run: RunFile | str | Path) -> RunLayers:
             pc = delta_downscaled(period, base_clim, profile)
             years = run.baseline.years  # the baseline's days, shifted by the model's change
         else:
-            pc = open_period(period, profile, chunk_cells=run.chunk_cells)
+            pc = open_period(period, profile, chunk_cells=run.chunk_cells,
+                             monthly_route=run.monthly_route)
             years = period.years
         if base_clim is None:
             base_clim = pc
-        ds = compute_layers(pc.tmin, pc.tmax, profile, years, label=period.name)
+        if pc.tmin.attrs.get("frequency") == "monthly":  # the quick "normal" route
+            from .monthly_input import normal_route_layers
+
+            if run.daily_sd is None:
+                raise InputError("monthly_route = \"normal\" needs [compute] daily_sd (the standard "
+                                 "deviation of daily mean temperature within a month, °C)")
+            ds = normal_route_layers(pc.tmin, pc.tmax, profile, years, run.daily_sd)
+            ds.attrs["period"] = period.name
+        else:
+            ds = compute_layers(pc.tmin, pc.tmax, profile, years, label=period.name)
+            if "monthly_route" in pc.tmin.attrs:
+                ds.attrs["monthly_route"] = pc.tmin.attrs["monthly_route"]
         if period.delta is not None:
             ds.attrs["downscaling"] = (f"delta change, {period.delta.smoothing} deltas "
                                        f"(window {period.delta.window_days} d) of model years "
@@ -239,7 +265,8 @@ def compute_run(run: RunFile | str | Path) -> RunLayers:
         periods[period.name] = ds
         inputs[period.name] = pc.files
         keys[period.name] = period_key(profile.to_dict(), period, pc.files,
-                                       None if period is run.baseline else inputs[run.baseline.name])
+                                       None if period is run.baseline else inputs[run.baseline.name],
+                                       {"monthly_route": run.monthly_route, "daily_sd": run.daily_sd})
     comps, ensembles = derive(run, periods)
     return RunLayers(run, profile, periods, comps, inputs, ensembles, keys)
 

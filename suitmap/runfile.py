@@ -66,6 +66,8 @@ class RunFile:
     scenarios: tuple[Period, ...]
     output: Output
     chunk_cells: int | None = None
+    monthly_route: str = "interpolate"
+    daily_sd: float | None = None
     raw: dict[str, Any] = field(default_factory=dict, compare=False, repr=False)
 
     @property
@@ -273,13 +275,20 @@ def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
     compute = raw.get("compute", {})
     if not isinstance(compute, dict):
         raise RunFileError(f"{where}: [compute] must be a table")
-    _keys(compute, ("chunk_cells",), where, "compute")
+    _keys(compute, ("chunk_cells", "monthly_route", "daily_sd"), where, "compute")
+    route = compute.get("monthly_route", "interpolate")
+    if route not in ("interpolate", "normal"):
+        raise RunFileError(f"{where}: compute.monthly_route must be \"interpolate\" or \"normal\"")
+    sd = compute.get("daily_sd")
+    if sd is not None and (isinstance(sd, bool) or not isinstance(sd, (int, float)) or sd < 0):
+        raise RunFileError(f"{where}: compute.daily_sd must be a non-negative number (°C)")
     chunk = compute.get("chunk_cells")
     if chunk is not None and (isinstance(chunk, bool) or not isinstance(chunk, int) or chunk < 1):
         raise RunFileError(f"{where}: compute.chunk_cells must be a positive whole number")
 
     return RunFile(path=path, profile_path=Path(_resolve(base, prof["path"])), baseline=baseline,
-                   scenarios=scenarios, output=output, chunk_cells=chunk, raw=raw)
+                   scenarios=scenarios, output=output, chunk_cells=chunk, monthly_route=route,
+                   daily_sd=None if sd is None else float(sd), raw=raw)
 
 
 def load_run(path: str | Path) -> RunFile:

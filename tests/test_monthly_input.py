@@ -1,0 +1,90 @@
+"""Monthly climate input through a run file: both routes, and what they record."""
+
+from __future__ import annotations
+
+import textwrap
+
+import numpy as np
+import pandas as pd
+import pytest
+import xarray as xr
+from scipy.stats import norm
+
+import suitmap
+from conftest import write_profile
+
+
+def write_monthly(path, values, times, var):
+    """values (t, 2, 3) in °C on a 1-degree lat/lon grid."""
+    da = xr.DataArray(values.astype("f4"), dims=("time", "lat", "lon"),
+                      coords={"time": times, "lat": [49.5, 48.5], "lon": [0.5, 1.5, 2.5]}, name=var)
+    da.attrs["units"] = "degC"
+    da["lat"].attrs = {"units": "degrees_north", "standard_name": "latitude"}
+    da["lon"].attrs = {"units": "degrees_east", "standard_name": "longitude"}
+    da.to_dataset().rio.write_crs("EPSG:4326").to_netcdf(path)
+    return path
+
+
+def monthly_case(tmp_path, n_months, route_lines=""):
+    times = pd.date_range("2001-01-01", periods=n_months, freq="MS") + pd.Timedelta(days=14)
+    m = np.arange(n_months) % 12
+    mean = 12.0 - 11.0 * np.cos(2 * np.pi * (m + 0.5) / 12)[:, None, None] + np.zeros((1, 2, 3))
+    mean = mean + np.linspace(-1, 1, 6).reshape(1, 2, 3)
+    write_monthly(tmp_path / "tn.nc", mean - 5.0, times, "tmin")
+    write_monthly(tmp_path / "tx.nc", mean + 5.0, times, "tmax")
+    prof = write_profile(tmp_path, lower=8.0, upper=30.0, ddg=300.0)
+    run = tmp_path / "run.toml"
+    run.write_text(textwrap.dedent(f"""
+        [profile]
+        path = "{prof.name}"
+        [baseline]
+        years = [2001, {2001 + max(n_months // 12, 1) - 1}]
+        tmin = "tn.nc"
+        tmax = "tx.nc"
+        [output]
+        dir = "results"
+        [compute]
+        """) + route_lines)
+    return run, mean
+
+
+def test_interpolated_series_keeps_monthly_means(tmp_path):
+    run, mean = monthly_case(tmp_path, 24)
+    pc = suitmap.open_period(suitmap.load_run(run).baseline, suitmap.load_profile(tmp_path / "profile.toml"))
+    daily = ((pc.tmin + pc.tmax) / 2).load()
+    assert daily.sizes["time"] == 730
+    monthly = daily.groupby(daily["time"].dt.year * 100 + daily["time"].dt.month).mean()
+    np.testing.assert_allclose(monthly.values, mean, atol=1e-4)  # float32 days
+    ds = suitmap.compute_run(run).compute().periods["baseline"]
+    assert ds.attrs["seasons"] == 2
+    assert ds.attrs["monthly_route"].startswith("interpolate")
+
+
+def test_climatology_is_repeated_every_year(tmp_path):
+    run, _ = monthly_case(tmp_path, 12)
+    text = run.read_text().replace("years = [2001, 2001]", "years = [2001, 2003]")
+    run.write_text(text)
+    ds = suitmap.compute_run(run).compute().periods["baseline"]
+    assert ds.attrs["seasons"] == 3
+    assert "climatology" in ds.attrs["monthly_route"]
+
+
+def test_normal_route_matches_thom_formula(tmp_path):
+    run, mean = monthly_case(tmp_path, 12, 'monthly_route = "normal"\ndaily_sd = 3.0\n')
+    ds = suitmap.compute_run(run).compute().periods["baseline"]
+    # the normal-model expectation written out here: N * E[clip(T - L, 0, U - L)], T ~ N(mu, sd)
+    # (Thom-type method, from memory: Thom 1954)
+    def expected(mu, sd=3.0, lo=8.0, hi=30.0, n=1):
+        g = lambda c: (mu - c) * norm.cdf((mu - c) / sd) + sd * norm.pdf((mu - c) / sd)
+        return n * (g(lo) - g(hi))
+    days = np.array([31, 28, 31, 30, 31, 30, 31, 31, 30, 31, 30, 31])
+    want = sum(expected(mean[k], n=days[k]) for k in range(12))
+    np.testing.assert_allclose(ds["degree_days"].values, want, rtol=1e-5)
+    assert ds.attrs["monthly_route"].startswith("normal")
+    assert "first_generation_day" not in ds
+
+
+def test_normal_route_needs_daily_sd(tmp_path):
+    run, _ = monthly_case(tmp_path, 12, 'monthly_route = "normal"\n')
+    with pytest.raises(suitmap.errors.InputError, match="daily_sd"):
+        suitmap.compute_run(run)
