@@ -21,14 +21,16 @@ import xarray as xr
 
 from .errors import InputError
 from .kernels.degree_days import degree_days_block
+from .kernels.development import daily_development as _dev_kernel
+from .kernels.diurnal import daylength as _daylength
 from .metadata import LIMITING_FACTOR_CLASSES, MISSING_CLASS, layer_attrs
 from .profile import Profile
 from .seasons import (NORTH_DEFAULT, SOUTH_DEFAULT, SeasonWindow, complete_seasons,
                       day360_to_365, season_index, season_labels, time_fields)
 
 #: Season statistics computed per cell and season-year, in this order.
-SEASON_STATS = ("degree_days", "first_generation_day", "cold_kill_days", "heat_kill_days",
-                "mean_tmax")
+SEASON_STATS = ("degree_days", "development", "first_generation_day", "cold_kill_days",
+                "heat_kill_days", "mean_tmax")
 
 
 def cell_latitudes(da: xr.DataArray) -> np.ndarray:
@@ -52,16 +54,28 @@ def season_windows(profile: Profile) -> tuple[SeasonWindow, SeasonWindow, bool]:
     return w, w, False
 
 
-def _season_block(tmin: np.ndarray, tmax: np.ndarray, south: np.ndarray, *,
-                  slices_north, slices_south, lower, upper, method, cutoff, dd_per_gen,
-                  lethal_cold, lethal_heat) -> np.ndarray:
+def _daily_development(tn, tx, nxt, lat, doy, curve):
+    """Development per day by rate summation over the day's temperature curve."""
+    model, params, diurnal = curve
+    daylength = None
+    if diurnal == "parton_logan":
+        daylength = _daylength(np.broadcast_to(lat[..., None], tn.shape),
+                               np.broadcast_to(doy, tn.shape))
+    return _dev_kernel(tn, tx, model, params, diurnal=diurnal, daylength=daylength,
+                       tmin_next=nxt, parallel=False)
+
+
+def _season_block(tmin: np.ndarray, tmax: np.ndarray, lat: np.ndarray, *,
+                  slices_north, slices_south, per_hemisphere, doy, lower, upper, method, cutoff,
+                  dd_per_gen, curve, lethal_cold, lethal_heat) -> np.ndarray:
     """Season statistics of one block; arrays arrive as (y, x, time)."""
     tmin = np.ascontiguousarray(tmin)
     tmax = np.ascontiguousarray(tmax)
     ny, nx, nt = tmin.shape
     nseason = len(slices_north)
     out = np.full((ny, nx, len(SEASON_STATS), nseason), np.nan)
-    south = np.asarray(south, dtype=bool)
+    lat = np.asarray(lat, dtype=float)
+    south = (lat < 0) if per_hemisphere else np.zeros(lat.shape, dtype=bool)
     groups = []
     if (~south).any():
         groups.append((~south, slices_north))
@@ -79,17 +93,24 @@ def _season_block(tmin: np.ndarray, tmax: np.ndarray, south: np.ndarray, *,
             nxt[..., -1] = tmin[..., i1] if i1 < nt else tn[..., -1]
             # dask already runs blocks in parallel threads: the kernel runs serially here
             dd = degree_days_block(tn, tx, nxt, lower, upper, method, cutoff, parallel=False)
-            cum = np.cumsum(dd, axis=-1)
-            total = cum[..., -1]
-            reached = cum >= dd_per_gen
+            if curve is None:
+                cum = np.cumsum(dd, axis=-1)
+                total = cum[..., -1]
+                development = total / dd_per_gen
+                reached = cum >= dd_per_gen
+            else:
+                total = dd.sum(axis=-1)
+                cum = np.cumsum(_daily_development(tn, tx, nxt, lat, doy[i0:i1], curve), axis=-1)
+                development = cum[..., -1]
+                reached = cum >= 1.0
             first = np.where(reached.any(axis=-1), reached.argmax(axis=-1) + 1.0, np.nan)
-            missing = np.isnan(total)
+            missing = np.isnan(total) | np.isnan(development)
             cold = (np.count_nonzero(tn <= lethal_cold, axis=-1).astype(float)
                     if lethal_cold is not None else np.zeros(total.shape))
             heat = (np.count_nonzero(tx >= lethal_heat, axis=-1).astype(float)
                     if lethal_heat is not None else np.zeros(total.shape))
             mean_tmax = tx.mean(axis=-1, dtype=np.float64)
-            stats = np.stack([total, first, cold, heat, mean_tmax], axis=-1)
+            stats = np.stack([total, development, first, cold, heat, mean_tmax], axis=-1)
             stats[missing] = np.nan
             out[cells, :, k] = stats[cells]
     return out
@@ -129,13 +150,17 @@ def season_statistics(tmin: xr.DataArray, tmax: xr.DataArray, profile: Profile,
 
     dev, surv = profile.development, profile.survival
     south_da = xr.DataArray(south, dims=("y", "x"), coords={"y": tmin["y"], "x": tmin["x"]})
+    lat_da = xr.DataArray(lat, dims=("y", "x"), coords={"y": tmin["y"], "x": tmin["x"]})
     if tmin.chunks is not None:
-        south_da = south_da.chunk({"y": tmin.chunks[1], "x": tmin.chunks[2]})
+        lat_da = lat_da.chunk({"y": tmin.chunks[1], "x": tmin.chunks[2]})
+    rc = dev.rate_curve
+    curve = None if rc is None else (rc.model, rc.as_dict(), dev.diurnal)
+    doy = np.asarray(tmin["time"].dt.dayofyear.values, dtype=float)
     stats = xr.apply_ufunc(
         _season_block,
         tmin.chunk({"time": -1}) if tmin.chunks is not None else tmin,
         tmax.chunk({"time": -1}) if tmax.chunks is not None else tmax,
-        south_da,
+        lat_da,
         input_core_dims=[["time"], ["time"], []],
         output_core_dims=[["stat", "season_year"]],
         dask="parallelized",
@@ -143,9 +168,10 @@ def season_statistics(tmin: xr.DataArray, tmax: xr.DataArray, profile: Profile,
         dask_gufunc_kwargs={"output_sizes": {"stat": len(SEASON_STATS),
                                              "season_year": len(season_years)}},
         kwargs=dict(slices_north=slices_n, slices_south=slices_s,
+                    per_hemisphere=per_hemisphere, doy=doy,
                     lower=dev.lower_threshold, upper=dev.upper_threshold,
                     method=dev.method, cutoff=dev.cutoff,
-                    dd_per_gen=dev.degree_days_per_generation,
+                    dd_per_gen=dev.degree_days_per_generation, curve=curve,
                     lethal_cold=surv.lethal_cold, lethal_heat=surv.lethal_heat),
     )
     stats.attrs = {}
@@ -189,7 +215,7 @@ def period_layers(stats: xr.Dataset, profile: Profile) -> xr.Dataset:
     def mean(x):
         return x.where(valid).sum("season_year").where(present) / nf
 
-    gens = dd / dev.degree_days_per_generation
+    gens = stats["development"]  # degree-days / thermal constant, or summed daily development
     complete = np.floor(gens)
     first_day = stats["first_generation_day"]
     n_first = first_day.notnull().sum("season_year")
@@ -233,6 +259,13 @@ def period_layers(stats: xr.Dataset, profile: Profile) -> xr.Dataset:
     ds["limiting_factor"].encoding["_FillValue"] = MISSING_CLASS
     ds.attrs.update(stats.attrs)
     ds.attrs["seasons"] = int(stats.sizes["season_year"])
+    rc = dev.rate_curve
+    how = ("degree-days / degree_days_per_generation" if rc is None else
+           f"rate summation: {rc.model} development rate integrated over a {dev.diurnal} day")
+    ds.attrs["generations_from"] = how
+    for name in ("generations", "complete_generations", "first_generation_day",
+                 "years_with_generation"):
+        ds[name].attrs["comment"] = f"generations from {how}"
     return ds
 
 
