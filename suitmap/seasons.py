@@ -114,7 +114,8 @@ def day360_to_365(day_of_season: np.ndarray, window: SeasonWindow) -> np.ndarray
     generation that completes on 360_day "15 June" lands on 15 June: days
     of season become comparable with standard and noleap models.
     """
-    d = np.asarray(day_of_season, dtype=float)
+    raw = np.asarray(day_of_season, dtype=float)
+    d = np.where(np.isnan(raw), 1.0, raw)
     sm, sd = window.start
     start360 = (sm - 1) * 30 + (min(sd, 30) - 1)          # 0-based day of year of season start
     pos360 = (start360 + d - 1) % 360                       # 0-based day of year in 360_day
@@ -125,4 +126,4 @@ def day360_to_365(day_of_season: np.ndarray, window: SeasonWindow) -> np.ndarray
     pos365 = cum[month] + frac * _NOLEAP_DIM[month] - 0.5  # 0-based, fractional
     start365 = cum[sm - 1] + (min(sd, int(_NOLEAP_DIM[sm - 1])) - 1)
     out = (pos365 - start365) % 365 + 1
-    return np.where(np.isnan(d), np.nan, out)
+    return np.where(np.isnan(raw), np.nan, out)

@@ -54,6 +54,8 @@ def test_killed_run_resumes_to_identical_outputs(small_case, reference, delays):
 
 def test_cache_invalidation(small_case):
     run = small_case["run"]
+    run.write_text(run.read_text().replace('formats = ["geotiff", "netcdf", "png"]',
+                                           'formats = ["netcdf"]'))
     suitmap.run(run)
     cache = small_case["dir"] / "results" / ".suitmap" / "cache"
     first = {p.name: p.stat().st_mtime_ns for p in cache.iterdir()}
@@ -81,6 +83,8 @@ def test_cache_invalidation(small_case):
 
 def test_concurrent_run_is_refused_and_stale_lock_taken_over(small_case):
     run = small_case["run"]
+    run.write_text(run.read_text().replace('formats = ["geotiff", "netcdf", "png"]',
+                                           'formats = ["netcdf"]'))
     suitmap.run(run)
     lock = small_case["dir"] / "results" / ".suitmap" / "lock"
     # a live process holds the lock (this test process itself)
