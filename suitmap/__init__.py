@@ -14,7 +14,7 @@ __version__ = "0.1.0"
 
 from .climate import open_climate  # noqa: E402
 from .compare import compare  # noqa: E402
-from .daily import degree_days  # noqa: E402
+from .daily import daily_development, degree_days, development_rate  # noqa: E402
 from .layers import compute_layers, season_statistics  # noqa: E402
 from .outputs import write_outputs  # noqa: E402
 from .pipeline import check_run, compute_run, open_period, run  # noqa: E402
@@ -22,7 +22,8 @@ from .profile import load_profile  # noqa: E402
 from .runfile import load_run  # noqa: E402
 
 __all__ = [
-    "__version__", "open_climate", "compare", "degree_days", "compute_layers",
+    "__version__", "open_climate", "compare", "degree_days", "development_rate",
+    "daily_development", "compute_layers",
     "season_statistics", "write_outputs", "check_run", "compute_run", "open_period", "run",
     "load_profile", "load_run",
 ]

@@ -74,3 +74,60 @@ def degree_days(tmin, tmax, lower: float, upper: float, *, method: str = "single
         "cell_methods": "time: sum",
     }
     return out
+
+
+def development_rate(temp, model: str, **params):
+    """Development rate (1/day) of a published rate curve at temperature ``temp`` (°C).
+
+    Elementwise on scalars, numpy arrays or xarray objects; 0 outside the
+    curve's limits.  See :mod:`suitmap.kernels.rates` for the models and their
+    references.
+    """
+    from .kernels.rates import development_rate as _rate
+
+    if isinstance(temp, xr.DataArray):
+        out = xr.apply_ufunc(lambda t: _rate(t, model, **params), temp, dask="parallelized",
+                             output_dtypes=[np.float64])
+        out.attrs = {"units": "d-1", "long_name": f"development rate ({model})"}
+        return out
+    out = _rate(temp, model, **params)
+    return float(out) if np.ndim(out) == 0 else out
+
+
+def daily_development(tmin, tmax, model: str, params: dict, *, diurnal: str = "sine",
+                      lat=None, doy=None, tmin_next=None):
+    """Development per day (fraction of a generation) by rate summation.
+
+    The rate curve ``model`` with ``params`` is integrated over the day's
+    temperature curve between ``tmin`` and ``tmax``: a symmetric sine
+    (``diurnal="sine"``), or Parton & Logan (1981) (``"parton_logan"``), whose
+    daylength comes from latitude ``lat`` (degrees north) and day of year
+    ``doy`` (Forsythe et al. 1995) and whose night decays toward ``tmin_next``
+    (default: ``tmin``).
+
+    References
+    ----------
+    See :mod:`suitmap.kernels.development` and :mod:`suitmap.kernels.diurnal`.
+    """
+    from .kernels.development import daily_development as _dev
+    from .kernels.diurnal import daylength as _daylength
+
+    daylength = None
+    if diurnal == "parton_logan":
+        if lat is None or doy is None:
+            raise ValueError("diurnal='parton_logan' needs lat and doy for the daylength")
+        daylength = _daylength(lat, doy)
+    if isinstance(tmin, xr.DataArray) or isinstance(tmax, xr.DataArray):
+        nxt = tmin if tmin_next is None else tmin_next
+        dl = xr.zeros_like(tmin) + (12.0 if daylength is None else daylength)
+
+        def _apply(a, b, c, d):
+            return _dev(a, b, model, params, diurnal=diurnal, daylength=d, tmin_next=c)
+
+        out = xr.apply_ufunc(_apply, tmin, tmax, nxt, dl, dask="parallelized",
+                             output_dtypes=[np.float64])
+        out.attrs = {"units": "1", "long_name": f"daily development ({model}, {diurnal} day)"}
+        return out
+    out = _dev(tmin, tmax, model, params, diurnal=diurnal, daylength=daylength,
+               tmin_next=tmin_next)
+    return float(out) if np.ndim(out) == 0 else out

@@ -77,3 +77,18 @@ def test_parton_logan_day_runs_and_differs_from_sine(tmp_path):
     assert np.isfinite(p).all() and (p > 0).all()
     # same Tmin/Tmax, another daily curve: close but not identical (Parton & Logan 1981)
     assert not np.allclose(s, p, rtol=1e-4) and np.allclose(s, p, rtol=0.25)
+
+
+def test_public_api_on_numbers_and_xarray():
+    import xarray as xr
+
+    p = {"a": 3.0e-5, "t_low": 9.5, "t_high": 35.0}
+    assert suitmap.development_rate(25.0, "briere1", **p) == pytest.approx(briere(25.0))
+    m, a = 17.5, 7.5  # Tmin 10, Tmax 25
+    want = quad(lambda th: briere(m + a * math.sin(th)), 0, 2 * math.pi)[0] / (2 * math.pi)
+    assert suitmap.daily_development(10.0, 25.0, "briere1", p) == pytest.approx(want, rel=1e-6)
+    da = xr.DataArray(np.array([10.0, 12.0]), dims="time")
+    out = suitmap.daily_development(da, da + 15.0, "briere1", p)
+    assert out.dims == ("time",) and out.values[0] == pytest.approx(want, rel=1e-6)
+    with pytest.raises(ValueError, match="lat and doy"):
+        suitmap.daily_development(10.0, 25.0, "briere1", p, diurnal="parton_logan")
