@@ -55,7 +55,9 @@ def _open_role(src, role: str, label: str, years: tuple[int, int], extra: int):
     paths: list[Path] = []
     for pattern in src.patterns:
         paths.extend(climate.resolve_paths(pattern, what=f"{label} {role}"))
-    da = climate.open_climate(paths, role, variable=src.variable, label=label)
+    side = chunk_side(366 * (years[1] - years[0] + 2))
+    da = climate.open_climate(paths, role, variable=src.variable, label=label,
+                              chunks={"y": side, "x": side})
     first, last = years
     climate.select_years(da, first, last, label=f"{label} {role}")
     y = da["time"].dt.year
@@ -104,8 +106,12 @@ def open_period(period: Period, profile: Profile, *, chunk_cells: int | None = N
         for pattern in src.patterns:
             paths.extend(climate.resolve_paths(pattern, what=f"{period.name} {role}"))
         files[role] = [str(p) for p in paths]
+        # open with the final spatial chunks: re-chunking whole-time-axis chunks later would
+        # hold the larger ones in memory
+        n_days = 366 * (period.years[1] - period.years[0] + 2)
+        side = chunk_side(n_days, chunk_cells)
         da = climate.open_climate(paths, role, variable=src.variable, label=period.name,
-                                  allow_monthly=True)
+                                  allow_monthly=True, chunks={"y": side, "x": side})
         first, last = period.years
         if da.attrs.get("frequency") == "monthly":
             if monthly_route == "normal":
@@ -130,7 +136,6 @@ def open_period(period: Period, profile: Profile, *, chunk_cells: int | None = N
             f"{period.name}: tmin and tmax files hold different days "
             f"({tmin.sizes['time']} vs {tmax.sizes['time']}); give files covering the same dates"
         )
-    side = chunk_side(tmin.sizes["time"], chunk_cells)
     chunks = {"time": -1, "y": side, "x": side}
     tmin = tmin.chunk(chunks)
     tmax = tmax.chunk(chunks)

@@ -23,6 +23,7 @@ import numba
 import numpy as np
 from numpy.typing import ArrayLike
 
+from .degree_days import _asin
 from .diurnal import PARTON_LOGAN_150CM
 from .rates import model_code, pack_params, rate_limits, rate_scalar
 
@@ -38,20 +39,20 @@ _POWER_HI = (1, 2)  # briere1, briere2: (t_high - T)^(1/m) at the upper limit
 _HALF_PI = 0.5 * math.pi
 _CHUNK = 4096           # elements per parallel work item (an element is ~1 us)
 _PARALLEL_MIN = 8192
+_INLINE = dict(cache=True, error_model="numpy", inline="always")
 _JIT = dict(cache=True, error_model="numpy")
 
 
 @lru_cache(maxsize=16)
 def quadrature_nodes(n: int) -> tuple[np.ndarray, np.ndarray]:
-    """Nodes x and weights w, shape (4, n), with ∫_0^1 g ≈ Σ_k w[j, k] g(x[j, k]).
+    """Nodes x and weights w, shape (3, n), with ∫_0^1 g ≈ Σ_k w[j, k] g(x[j, k]).
 
-    Row 0: n-point Gauss-Legendre on [0, 1].  Rows 1, 2, 3: the same
-    composed with x = u², x = u(2 − u), x = u²(3 − 2u), which cluster the
-    nodes at the left end, the right end, both ends (dx/du = 0 there).  An
-    end behaviour (x − a)^β, e.g. the square root of the Briere-1 curve at
-    t_high, becomes u^(2β + 1), which Gauss-Legendre integrates far better;
-    an analytic integrand stays analytic, but plain Gauss-Legendre
-    converges faster for it, so rows 1-3 are used only at a power-law end.
+    Row 0: n-point Gauss-Legendre on [0, 1].  Rows 1, 2: the same composed
+    with x = u² and x = u(2 − u), which cluster the nodes at the left or the
+    right end (dx/du = 0 there).  An end behaviour (x − a)^β, e.g. the square
+    root of the Briere-1 curve at t_high, becomes u^(2β + 1), which
+    Gauss-Legendre integrates far better; an analytic integrand converges
+    faster without, so rows 1, 2 are used only at a power-law end.
 
     References
     ----------
@@ -64,15 +65,15 @@ def quadrature_nodes(n: int) -> tuple[np.ndarray, np.ndarray]:
     u, w = np.polynomial.legendre.leggauss(n)
     u = 0.5 * (u + 1.0)
     w = 0.5 * w
-    x = np.stack([u, u * u, u * (2.0 - u), u * u * (3.0 - 2.0 * u)])
-    wx = np.stack([w, 2.0 * u * w, 2.0 * (1.0 - u) * w, 6.0 * u * (1.0 - u) * w])
+    x = np.stack([u, u * u, u * (2.0 - u)])
+    wx = np.stack([w, 2.0 * u * w, 2.0 * (1.0 - u) * w])
     x.flags.writeable = False
     wx.flags.writeable = False
     return x, wx
 
 
 # ---------------------------------------------------------------- scalar parts
-@numba.njit(**_JIT)
+@numba.njit(**_INLINE)
 def _unit(x: float) -> float:
     return 1.0 if x > 1.0 else (-1.0 if x < -1.0 else x)
 
@@ -167,12 +168,6 @@ def _pl_night(ts: float, tnext: float, b: float, lo: float, hi: float, code: int
 
 
 @numba.njit(**_JIT)
-def _pl_sunset_factor(y: float, a: float, c: float) -> float:
-    """sin ψ at sunset: T(sunset) = Tn + (Tx − Tn)·factor."""
-    return math.sin(math.pi * (y - c) / (y + 2.0 * a))
-
-
-@numba.njit(**_JIT)
 def _pl_day(tn: float, tx: float, tnext: float, daylength: float, a: float, b: float,
             c: float, lo: float, hi: float, code: int, p: np.ndarray, x: np.ndarray,
             w: np.ndarray, power_hi: bool) -> float:
@@ -183,9 +178,96 @@ def _pl_day(tn: float, tx: float, tnext: float, daylength: float, a: float, b: f
     z = 24.0 - y
     total = _pl_daytime(tn, tx, y, a, c, lo, hi, code, p, x, w, power_hi)
     if z > 0.0:
-        ts = tn + (tx - tn) * _pl_sunset_factor(y, a, c)
+        ts = tn + (tx - tn) * math.sin(math.pi * (y - c) / (y + 2.0 * a))   # at sunset
         total += z * _pl_night(ts, tnext, b, lo, hi, code, p, x, w, power_hi)
     return total / 24.0
+
+
+# ------------------------------------------- Parton-Logan over a rate table
+# The fast path of suitmap.kernels.tables: the same day as _pl_day, but the
+# rate read from a 1-D table (linear interpolation), sin and asin by
+# polynomials (no calls in the loop).
+
+
+_S = tuple((-1.0) ** k / math.factorial(2 * k + 1) for k in range(10))  # Taylor of sin
+_S0, _S1, _S2, _S3, _S4, _S5, _S6, _S7, _S8, _S9 = _S
+
+
+@numba.njit(**_INLINE)
+def _sin(x: float) -> float:
+    """sin x for |x| <= π/2: Taylor series to x^19 (error < 3e-16), Horner."""
+    z = x * x
+    return x * (_S0 + z * (_S1 + z * (_S2 + z * (_S3 + z * (_S4 + z * (_S5 + z * (
+        _S6 + z * (_S7 + z * (_S8 + z * _S9)))))))))
+
+
+@numba.njit(**_INLINE)
+def _rate(t: float, rt: np.ndarray, rax: np.ndarray) -> float:
+    """Rate from the 1-D table: rax = (t0, 1/h, nodes - 2), rt = (r_k, r_k+1 - r_k)."""
+    u = (t - rax[0]) * rax[1]
+    u = u if u > 0.0 else 0.0
+    k = min(np.int64(u), np.int64(rax[2]))
+    return rt[2 * k] + (u - k) * rt[2 * k + 1]
+
+
+@numba.njit(**_JIT)
+def _pl_tabulated_range(a: np.ndarray, b: np.ndarray, c: np.ndarray, d: np.ndarray,
+                        out: np.ndarray, start: int, stop: int, rt: np.ndarray,
+                        rax: np.ndarray, fpar: np.ndarray, gx: np.ndarray, gw: np.ndarray,
+                        power_hi: bool) -> int:
+    """The Parton-Logan day of ``_pl_day`` over the tabulated rate: the day
+    sine split at π/2 and at the asin crossings of the limits; the night in
+    q = exp(−b n/Z), where T = Tn' + (Ts − Tn') q is linear, in two pieces
+    [e^−b, e^−b/2], [e^−b/2, 1] cut at the limits; Gauss-Legendre rows of
+    (gx, gw) as in ``quadrature_nodes``.  +inf where an input is outside
+    (rax[3], rax[4]) (to compute exactly), NaN for NaN input; returns the
+    number of +inf."""
+    lo, hi, pa, pb, pc = fpar[2], fpar[3], fpar[4], fpar[5], fpar[6]
+    eb, ebh = math.exp(-pb), math.exp(-0.5 * pb)
+    cnt = 0
+    for i in range(start, stop):
+        x, y, w, dl = np.float64(a[i]), np.float64(b[i]), np.float64(c[i]), np.float64(d[i])
+        yl = min(max(dl, 0.0), 24.0) if dl == dl else 0.0
+        g = yl + 2.0 * pa
+        p0 = -math.pi * pc / g
+        p1 = math.pi * (yl - pc) / g
+        am = y - x
+        am = am if am != 0.0 else 1e-300
+        s_lo = _asin(_unit((lo - x) / am))
+        s_hi = _asin(_unit((hi - x) / am))
+        lo_psi = s_lo if am > 0.0 else s_hi
+        hi_psi = s_hi if am > 0.0 else s_lo
+        ra = max(p0, lo_psi)                                  # rising part
+        rw = max(0.0, min(min(p1, _HALF_PI), hi_psi) - ra)
+        fa = max(math.pi - p1, lo_psi)                        # falling part, mirrored
+        fw = max(0.0, min(math.pi - max(p0, _HALF_PI), hi_psi) - fa)
+        k = x + am * _sin(p1 if p1 <= _HALF_PI else math.pi - p1) - w    # Ts − Tn'
+        k = k if k != 0.0 else 1e-300
+        qa = (lo - w) / k if k > 0.0 else (hi - w) / k
+        qb = (hi - w) / k if k > 0.0 else (lo - w) / k
+        n1a = max(eb, qa)
+        n1w = max(0.0, min(ebh, qb) - n1a)
+        n2a = max(ebh, qa)
+        n2w = max(0.0, min(1.0, qb) - n2a)
+        rd = 2 if power_hi else 0                   # nodes clustered at the hot end
+        rn = (2 if k > 0.0 else 1) if power_hi else 0
+        day = 0.0
+        night = 0.0
+        for j in range(gx.shape[1]):
+            u = gx[rd, j]
+            day += gw[rd, j] * (rw * _rate(x + am * _sin(ra + rw * u), rt, rax)
+                                + fw * _rate(x + am * _sin(fa + fw * u), rt, rax))
+            q1 = n1a + n1w * gx[rn, j]
+            q2 = n2a + n2w * gx[rn, j]
+            night += gw[rn, j] * (n1w * _rate(w + k * q1, rt, rax) / q1
+                                  + n2w * _rate(w + k * q2, rt, rax) / q2)
+        v = (g / math.pi * day + (24.0 - yl) / pb * night) / 24.0
+        inside = ((x >= rax[3]) & (x < rax[4]) & (y >= rax[3]) & (y < rax[4])
+                  & (w >= rax[3]) & (w < rax[4]))
+        v = (v if inside else math.inf) + 0.0 * (x + y + w + dl)
+        out[i] = v
+        cnt += v == math.inf
+    return cnt
 
 
 # ------------------------------------------------------------------------ loops
@@ -421,6 +503,5 @@ def accumulate_generations(daily_dev: ArrayLike, axis: int = -1,
     running = np.cumsum(dev, axis=-1)
     total = running[..., -1].copy()
     reached = running >= 1.0 - tol
-    first = np.argmax(reached, axis=-1).astype(np.float64) + 1.0
-    first[~reached.any(axis=-1)] = np.nan
+    first = np.where(reached.any(axis=-1), np.argmax(reached, axis=-1) + 1.0, np.nan)
     return total, first
