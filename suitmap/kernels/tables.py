@@ -1,0 +1,542 @@
+"""Fast daily kernels built once per profile from the exact ones.
+
+``DailyTable`` evaluates a daily kernel over (Tmin, Tmax) arrays in a
+compiled, parallel loop (float32 or float64 in, float64 out, NaN in, NaN
+out), with one of three strategies, chosen by measurement
+(benchmarks/README.md):
+
+* ``"table"`` (development with the sine day; degree-days on request): the
+  exact value at the nodes of a graded (Tmin, Tmax) grid, bilinear
+  interpolation.  Nodes lie on every threshold, so the kinks of the daily
+  value fall on grid lines and never inside a cell, and are denser next to
+  them (spacing ``grade`` × distance, from ``h_min`` to ``h_max``).  Each
+  cell stores its four coefficients (float32, one 16-byte read).  At build
+  each cell is checked at ``sub``² interior points against the exact kernel;
+  cells that miss |error| <= 5e-4 max(|exact|, 1 % of the peak), and values
+  outside ``t_range``, are computed with the exact kernel.
+* ``"closed_form"`` (every degree-day method by default): the vectorised
+  closed forms of ``degree_days`` are faster than a lookup on AVX-512.
+* ``"quadrature"`` (development with the Parton-Logan day): a 3-D table
+  would need ~0.25 h steps in day length for 1e-3 (~100 planes), so each
+  day is integrated by Gauss-Legendre over a 1-D table of the rate curve.
+
+No I/O.
+
+References
+----------
+Press, W.H. et al. (2007) Numerical Recipes, 3rd ed., section 3.6
+(bilinear interpolation); Abramowitz & Stegun (1964) 25.4.29.
+"""
+
+from __future__ import annotations
+
+import math
+import time
+
+import numba
+import numpy as np
+
+from . import development as dev
+from .degree_days import CUTOFFS, METHODS, degree_days_block
+from .degree_days import _fill_range as _dd_fill_range
+from .rates import MODELS, model_code, pack_params, rate_array, rate_limits
+
+__all__ = ["DailyTable", "degree_day_table", "development_table", "T_RANGE"]
+
+T_RANGE = (-50.0, 60.0)       # °C covered by a table; outside: exact kernel
+_TOL, _FLOOR = 5e-4, 0.01     # build check: |err| <= _TOL * max(|f|, _FLOOR * peak)
+_DEFAULTS = {"degree_days": dict(h_min=1 / 32, h_max=0.5, grade=0.05, sub=4),
+             "development": dict(h_min=1 / 32, h_max=0.25, grade=0.05, sub=4),
+             "parton_logan": dict(h_rate=None, n_gauss=None)}
+_ONE, _HALVES, _PLQ = range(3)        # modes: one lookup, two half-days, quadrature
+_EX_DD, _EX_SINE, _EX_PL = range(3)   # exact kernels for the fallback
+_CHUNK = 16384
+_BLOCK = 128                  # values per fast pass; the exact pass scans one block
+_PARALLEL_MIN = 65536
+_JIT = dict(cache=True, error_model="numpy")
+_INLINE = dict(_JIT, inline="always")
+
+
+# ------------------------------------------------------------------ lookups
+# LLVM emits no gathers for this CPU, so the loops are scalar, in float32
+# (6e-8 relative) and short: clamp, lattice bin, per bin (t_k, 1/width) and
+# unsigned cell offsets, one 16-byte read.  A border of +inf cells catches
+# values below t0 or from t1 up; +inf marks failed cells too and means
+# "compute exactly"; NaN input gives NaN through 0 * (x + y).
+
+
+@numba.njit(**_INLINE)
+def _bin(t: np.float32, ax: np.ndarray) -> tuple[np.float32, np.uint64]:
+    """Clamped temperature and its lattice bin; ax = (t0 - dj, t1 + dj, 1/dj),
+    float32."""
+    tc = t if t > ax[0] else ax[0]              # NaN -> border; masked by the caller
+    tc = tc if tc < ax[1] else ax[1]
+    return tc, np.uint64((tc - ax[0]) * ax[2])
+
+
+@numba.njit(**_INLINE)
+def _bilinear(tab: np.ndarray, q: np.uint64, fx: np.float32, fy: np.float32) -> np.float32:
+    return tab[q] + fx * tab[q + 1] + fy * (tab[q + 2] + fx * tab[q + 3])
+
+
+@numba.njit(**_JIT)
+def _exact_block(kind: int, a: np.ndarray, b: np.ndarray, c: np.ndarray, d: np.ndarray,
+                 out: np.ndarray, start: int, stop: int, kern: tuple) -> None:
+    """The exact kernel where the fast pass left +inf in out[start:stop];
+    kern = (fpar, ipar, packed, qx, qw, gx, gw), see ``DailyTable``."""
+    fpar, ipar, p, qx, qw = kern[0], kern[1], kern[2], kern[3], kern[4]
+    for i in range(start, stop):
+        if out[i] != math.inf:
+            continue
+        x, y, w, dl = np.float64(a[i]), np.float64(b[i]), np.float64(c[i]), np.float64(d[i])
+        if kind == _EX_DD:
+            _dd_fill_range(a, b, c, out, i, i + 1, fpar[0], fpar[1], ipar[0], ipar[1])
+        elif kind == _EX_SINE:
+            out[i] = dev._sine_day(x, y, fpar[2], fpar[3], ipar[2], p, qx, qw, ipar[3] != 0)
+        else:
+            out[i] = dev._pl_day(x, y, w, dl, fpar[4], fpar[5], fpar[6], fpar[2], fpar[3],
+                                 ipar[2], p, qx, qw, ipar[3] != 0)
+
+
+@numba.njit(**_JIT)
+def _table_range(mode: int, kind: int, a: np.ndarray, b: np.ndarray, c: np.ndarray,
+                 d: np.ndarray, out: np.ndarray, start: int, stop: int, grid: tuple,
+                 kern: tuple) -> int:
+    """out[start:stop] from the table, first argument on the rows, second on
+    the columns, in blocks of _BLOCK; where a block left +inf, the exact
+    kernel ``kind`` (none if < 0).  Returns how many +inf."""
+    ax, tw, offr, offc, tab = grid
+    zero, half, inf = np.float32(0.0), np.float32(0.5), np.float32(math.inf)
+    total = 0
+    for b0 in range(start, stop, _BLOCK):
+        b1 = min(b0 + _BLOCK, stop)
+        # slices, and loops from 0: LLVM proves the indices non-negative
+        aa, bb, cc, oo = a[b0:b1], b[b0:b1], c[b0:b1], out[b0:b1]
+        cnt = 0
+        if mode == _ONE:
+            for i in range(oo.size):
+                x, y = np.float32(aa[i]), np.float32(bb[i])
+                xc, jx = _bin(x, ax)
+                yc, jy = _bin(y, ax)
+                fx = (xc - tw[2 * jx]) * tw[2 * jx + 1]
+                fy = (yc - tw[2 * jy]) * tw[2 * jy + 1]
+                v = _bilinear(tab, offr[jx] + offc[jy], fx, fy) + zero * (x + y)
+                oo[i] = v
+                cnt += v == inf
+        else:  # two half-days (Tmin, Tmax) and (next Tmin, Tmax)
+            for i in range(oo.size):
+                x, y, w = np.float32(aa[i]), np.float32(bb[i]), np.float32(cc[i])
+                xc, jx = _bin(x, ax)
+                yc, jy = _bin(y, ax)
+                wc, jw = _bin(w, ax)
+                fx = (xc - tw[2 * jx]) * tw[2 * jx + 1]
+                fy = (yc - tw[2 * jy]) * tw[2 * jy + 1]
+                fw = (wc - tw[2 * jw]) * tw[2 * jw + 1]
+                v = half * (_bilinear(tab, offr[jx] + offc[jy], fx, fy)
+                            + _bilinear(tab, offr[jw] + offc[jy], fw, fy)) + zero * (x + y + w)
+                oo[i] = v
+                cnt += v == inf
+        if cnt > 0 and kind >= 0:
+            _exact_block(kind, a, b, c, d, out, b0, b1, kern)
+        total += cnt
+    return total
+
+
+@numba.njit(**_JIT)
+def _chunk(mode: int, kind: int, a: np.ndarray, b: np.ndarray, c: np.ndarray, d: np.ndarray,
+           out: np.ndarray, start: int, stop: int, grid: tuple, kern: tuple) -> int:
+    """Fast pass over out[start:stop] and the exact kernel where it left
+    +inf; returns how many.  Parton-Logan: grid[0], grid[1] = the rate table."""
+    if mode != _PLQ:
+        return _table_range(mode, kind, a, b, c, d, out, start, stop, grid, kern)
+    cnt = dev._pl_tabulated_range(a, b, c, d, out, start, stop, grid[1], grid[0], kern[0],
+                                  kern[5], kern[6], kern[1][3] != 0)
+    if cnt > 0 and kind >= 0:           # rare: out of the table's range
+        _exact_block(kind, a, b, c, d, out, start, stop, kern)
+    return cnt
+
+
+@numba.njit(parallel=True, **_JIT)
+def _run_parallel(mode: int, kind: int, a: np.ndarray, b: np.ndarray, c: np.ndarray,
+                  d: np.ndarray, out: np.ndarray, grid: tuple, kern: tuple) -> int:
+    n = out.size
+    nch = (n + _CHUNK - 1) // _CHUNK
+    counts = np.zeros(nch, dtype=np.int64)
+    for k in numba.prange(nch):
+        s = k * _CHUNK
+        counts[k] = _chunk(mode, kind, a, b, c, d, out, s, min(n, s + _CHUNK), grid, kern)
+    return counts.sum()
+
+
+# ------------------------------------------------------------------ building
+def _graded_axis(t_range: tuple[float, float], kinks: list[float], h_min: float,
+                 h_max: float, grade: float) -> tuple[np.ndarray, float]:
+    """Node temperatures covering ``t_range`` and the lattice step dj.
+
+    Nodes lie on a lattice of step dj <= h_min that contains the (at most
+    two) kinks; the spacing is min(h_max, max(h_min, grade × distance to
+    the nearest kink)), never larger than at the far end of an interval.
+    """
+    t0, t1 = float(t_range[0]), float(t_range[1])
+    if not t1 > t0:
+        raise ValueError(f"table range must be (low, high) with low < high, got {t_range}")
+    ks = sorted({float(k) for k in kinks if math.isfinite(k) and t0 < k < t1})[:2]
+    if len(ks) == 2 and ks[1] - ks[0] < 0.25 * h_min:
+        ks = ks[:1]      # too close for a lattice through both: the check marks the cells
+    dj = h_min if len(ks) < 2 else (ks[1] - ks[0]) / math.ceil((ks[1] - ks[0]) / h_min - 1e-9)
+    origin = ks[0] if ks else t0
+    m, m_end = math.floor((t0 - origin) / dj + 1e-9), math.ceil((t1 - origin) / dj - 1e-9)
+    km = [round((k - origin) / dj) for k in ks]
+    karr = np.array(ks)
+
+    def spacing(t: float) -> float:
+        if not ks:
+            return h_max
+        return min(h_max, max(h_min, grade * float(np.min(np.abs(karr - t)))))
+
+    steps = [m]
+    while m < m_end:
+        t = origin + m * dj
+        h = spacing(t)
+        h = min(h, spacing(t + h))
+        s = max(1, int(h / dj + 1e-9))
+        for k in km:
+            if k > m:
+                s = min(s, k - m)
+        m += min(s, m_end - m)
+        steps.append(m)
+    return origin + dj * np.array(steps, dtype=np.float64), dj
+
+
+def _locator(nodes: np.ndarray, dj: float) -> tuple[np.ndarray, ...]:
+    """(ax, tw, offr, offc) for ``_bin``: lattice bins from t0 - dj to t1 + dj;
+    per bin (t_k, 1/width) of its cell k and the offsets of the cell in the
+    bordered table (rows: 4 k' (cells + 2), columns: 4 k', k' = k + 1; the
+    border bins, below t0 and from t1 up, point to the border k' = 0)."""
+    lat = np.rint((nodes - nodes[0]) / dj).astype(np.int64)
+    nb = int(lat[-1])
+    cell = np.searchsorted(lat, np.arange(nb), side="right") - 1
+    kk = np.concatenate([[-1], cell, [-1, -1]]) + 1          # border bins -> 0
+    tk = np.concatenate([[nodes[0]], nodes[cell], [nodes[-1]] * 2])
+    iw = np.concatenate([[0.0], 1.0 / np.diff(nodes)[cell], [0.0, 0.0]])
+    ax = np.array([nodes[0] - dj, nodes[-1] + dj, 1.0 / dj], dtype=np.float32)
+    side = nodes.size + 1                                     # cells + 2
+    tw = np.stack([tk, iw], axis=1).reshape(-1).astype(np.float32)
+    return (ax, tw,
+            (4 * side * kk).astype(np.uint64), (4 * kk).astype(np.uint64))
+
+
+_NONE32 = np.zeros(1, dtype=np.float32)
+_NOINT = np.zeros(1, dtype=np.uint64)
+_NO2D = dev.quadrature_nodes(1)[0]              # read-only, as the real nodes: one type
+_NO_KERN = (np.zeros(7), np.zeros(4, np.int64), np.zeros(6), _NO2D, _NO2D, _NO2D, _NO2D)
+
+
+def _checked_table(exact, nodes: np.ndarray, grid: tuple, sub: int,
+                   guard=None) -> tuple[np.ndarray, dict]:
+    """Coefficient table of a symmetric f(Tmin, Tmax), failing cells marked.
+
+    Every cell with Tmax index >= Tmin index is checked at sub × sub interior
+    points; a cell where |table - exact| > _TOL max(|exact|, _FLOOR peak)
+    anywhere is marked (+inf, so computed exactly), and so is its mirror
+    image (f is symmetric, and so is the table); also where
+    ``guard(x, y, f)`` is False at a check point.
+    """
+    v = exact(*np.meshgrid(nodes, nodes, indexing="ij"))
+    peak = float(np.max(np.abs(v[np.triu_indices(nodes.size)])))
+    tab = np.zeros((nodes.size + 1,) * 2 + (4,), dtype=np.float32)   # bilinear coefficients,
+    tab[..., 0] = np.inf                                             # border of +inf cells
+    tab[1:-1, 1:-1] = np.stack([v[:-1, :-1], v[1:, :-1] - v[:-1, :-1], v[:-1, 1:] - v[:-1, :-1],
+                                v[1:, 1:] - v[1:, :-1] - v[:-1, 1:] + v[:-1, :-1]], axis=-1)
+    ci, cj = np.triu_indices(nodes.size - 1)
+    off = (np.arange(sub) + 0.5) / sub
+    ox, oy = (o.reshape(-1) for o in np.meshgrid(off, off, indexing="ij"))
+    width = np.diff(nodes)
+    x = (nodes[ci, None] + width[ci, None] * ox).reshape(-1)
+    y = (nodes[cj, None] + width[cj, None] * oy).reshape(-1)
+    ex = exact(x, y)
+    fast = np.empty(x.size)                       # the table alone, no exact fallback
+    _run_parallel(_ONE, -1, x, y, x, x, fast, (*grid, tab.reshape(-1)), _NO_KERN)
+    err = np.abs(fast - ex)
+    fail = err > _TOL * np.maximum(np.abs(ex), _FLOOR * peak)
+    if guard is not None:
+        fail |= ~guard(x, y, ex)
+    bad = fail.reshape(ci.size, -1).any(axis=1)
+    for i, j in ((ci[bad], cj[bad]), (cj[bad], ci[bad])):
+        tab[i + 1, j + 1] = (np.inf, 0.0, 0.0, 0.0)
+    good = np.repeat(~bad, ox.size)
+    big = good & (np.abs(ex) > _FLOOR * peak)
+    stats = dict(peak=peak, max_abs_error=float(err[good].max(initial=0.0)),
+                 max_rel_error=float((err[big] / np.abs(ex[big])).max(initial=0.0)),
+                 marked_fraction=float(bad.mean()))
+    return tab.reshape(-1), stats
+
+
+def _flat(x, shape: tuple[int, ...], what: str) -> np.ndarray:
+    x = np.asarray(x)
+    if x.shape != shape:
+        if what != "daylength":
+            raise ValueError(f"{what} {x.shape} must have the shape of tmin {shape}")
+        x = np.broadcast_to(x, shape)       # a broadcast daylength is copied once
+    dt = x.dtype if x.dtype in (np.float32, np.float64) else np.float64
+    return np.ascontiguousarray(x, dtype=dt).reshape(-1)
+
+
+# --------------------------------------------------------------------- public
+class DailyTable:
+    """A fast daily kernel built once from an exact one (see the module notes);
+    build with ``degree_day_table``, ``development_table`` or ``build``.
+
+    Attributes
+    ----------
+    kind, strategy : str
+        ``"degree_days"`` or ``"development"``; ``"table"``,
+        ``"closed_form"`` or ``"quadrature"``.
+    spec : dict
+        What it was built from, with the grid options.
+    max_abs_error, max_rel_error, peak : float
+        Measured at build against the exact kernel (table: on the check
+        points of the unmarked cells; quadrature: on 20000 seeded days):
+        largest |error|, and |error|/|exact| where exact > 1 % of ``peak``,
+        the largest value seen.  0 for closed forms.
+    marked_fraction, nodes, build_seconds, last_exact_count
+        Share of cells computed exactly; nodes per axis; build time; how
+        many values the last ``evaluate`` computed exactly.
+
+    References
+    ----------
+    .. [1] Press, W.H., Teukolsky, S.A., Vetterling, W.T. & Flannery, B.P.
+       (2007) Numerical Recipes, 3rd ed., section 3.6.
+    """
+
+    def __init__(self, kind: str, spec: dict, strategy: str) -> None:
+        self.kind, self.spec, self.strategy = kind, spec, strategy
+        self.mode, self.exact_kind, self.nodes = _ONE, -1, 0
+        # (axis, (t_k, 1/width) per bin, row and column offsets, coefficients)
+        self.grid = (_NONE32, _NONE32, _NOINT, _NOINT, _NONE32)
+        # fpar = (lower, upper, lo, hi, a, b, c), ipar = (method, cutoff, code,
+        # power_hi), packed rate parameters, exact nodes qx, qw, fast nodes gx, gw
+        self.kern = _NO_KERN
+        self.peak = math.nan
+        self.max_abs_error = self.max_rel_error = self.marked_fraction = 0.0
+        self.build_seconds, self.last_exact_count = 0.0, 0
+
+    @classmethod
+    def build(cls, kind: str, **spec) -> DailyTable:
+        """Build a table: ``kind="degree_days"`` with the keywords of
+        ``degree_day_table``, or ``"development"`` with those of
+        ``development_table``."""
+        start = time.perf_counter()
+        if kind == "degree_days":
+            table = _build_degree_days(**spec)
+        elif kind == "development":
+            table = _build_development(**spec)
+        else:
+            raise ValueError(f"unknown table kind {kind!r}; use 'degree_days' or 'development'")
+        table.build_seconds = time.perf_counter() - start
+        return table
+
+    @property
+    def nbytes(self) -> int:
+        """Bytes of the arrays the evaluation reads (tables and locator)."""
+        return int(sum(a.nbytes for a in self.grid))
+
+    def evaluate(self, tmin, tmax, out: np.ndarray | None = None, *, tmin_next=None,
+                 daylength=None, parallel: bool = True) -> np.ndarray:
+        """Daily values of same-shape Tmin/Tmax arrays (°C), float64.
+
+        ``tmin_next`` (next day's minimum): double degree-day methods and the
+        Parton-Logan night; None: today's minimum.  ``daylength`` (hours,
+        broadcast to the shape): Parton-Logan only.  ``out``: C-contiguous
+        float64 array of the shape.  C-contiguous float32/float64 input is
+        read without a copy.  NaN where an input used is NaN.
+        """
+        s = self.spec
+        if self.strategy == "closed_form":
+            return degree_days_block(tmin, tmax, tmin_next, s["lower"], s["upper"],
+                                     s["method"], s["cutoff"], out, parallel=parallel)
+        shape = np.shape(tmin)
+        a, b = _flat(tmin, shape, "tmin"), _flat(tmax, shape, "tmax")
+        c = a if tmin_next is None else _flat(tmin_next, shape, "tmin_next")
+        if self.mode == _PLQ:
+            if daylength is None:
+                raise ValueError("a Parton-Logan table needs daylength (hours) to evaluate")
+            d = _flat(daylength, shape, "daylength")
+        else:
+            d = a
+        if out is None:
+            out = np.empty(shape, dtype=np.float64)
+        elif (not isinstance(out, np.ndarray) or out.dtype != np.float64 or out.shape != shape
+              or not out.flags.c_contiguous or not out.flags.writeable):
+            raise ValueError(f"out must be a writeable C-contiguous float64 array of shape {shape}")
+        o = out.reshape(-1)
+        if parallel and o.size >= _PARALLEL_MIN:
+            n = _run_parallel(self.mode, self.exact_kind, a, b, c, d, o, self.grid, self.kern)
+        else:
+            n = _chunk(self.mode, self.exact_kind, a, b, c, d, o, 0, o.size, self.grid,
+                       self.kern)
+        self.last_exact_count = int(n)
+        return out
+
+    def __repr__(self) -> str:
+        return (f"DailyTable({self.kind}, {self.strategy}, nodes={self.nodes}, "
+                f"nbytes={self.nbytes}, max_rel_error={self.max_rel_error:.2e}, "
+                f"marked={self.marked_fraction:.4f})")
+
+
+def _grid_options(group: str, grid: dict) -> dict:
+    bad = set(grid) - set(_DEFAULTS[group])
+    if bad:
+        raise ValueError(f"unknown table option(s) {sorted(bad)}; use {sorted(_DEFAULTS[group])}")
+    return dict(_DEFAULTS[group], **grid)
+
+
+def _build_degree_days(lower: float, upper: float, method: str, cutoff: str,
+                       t_range: tuple[float, float] = T_RANGE, strategy: str = "auto",
+                       **grid) -> DailyTable:
+    if method not in METHODS or cutoff not in CUTOFFS:
+        raise ValueError(f"unknown degree-day method {method!r} or cutoff {cutoff!r}; use "
+                         f"{', '.join(METHODS)} / {', '.join(CUTOFFS)}")
+    lower, upper = float(lower), float(upper)
+    if not (math.isfinite(lower) and upper > lower):
+        raise ValueError(f"thresholds need a finite lower < upper, got {lower}, {upper}")
+    if strategy == "auto":     # measured: the vectorised closed forms beat a lookup
+        strategy = "closed_form"
+    if strategy not in ("table", "closed_form") or (
+            strategy == "table" and method in ("average", "modified_average")):
+        raise ValueError(f"strategy {strategy!r} is not available for {method!r}: "
+                         "use 'closed_form' (averages have a kink across the table)")
+    opts = _grid_options("degree_days", grid)
+    spec = dict(lower=lower, upper=upper, method=method, cutoff=cutoff,
+                t_range=tuple(t_range), **opts)
+    table = DailyTable("degree_days", spec, strategy)
+    if strategy == "closed_form":
+        return table
+    nodes, dj = _graded_axis(t_range, [lower, upper], opts["h_min"], opts["h_max"],
+                             opts["grade"])
+    grid = _locator(nodes, dj)
+    single = method.replace("double", "single")
+
+    def exact(cut: str):
+        return lambda x, y: degree_days_block(x, y, None, lower, upper, single, cut)
+
+    cut = cutoff if math.isfinite(upper) else "horizontal"     # all equal without U
+    mode = _ONE if method == single else _HALVES
+    if method == single or cut != "intermediate":
+        tab0, st = _checked_table(exact(cut), nodes, grid, opts["sub"])
+    else:   # whole day max(V, H - A) = H - A if so in both half-days: a table of
+        # H - A (A = DD above U); cells where it is below V are computed exactly
+        def h_minus_a(x, y):
+            return exact("horizontal")(x, y) - degree_days_block(x, y, None, upper, np.inf,
+                                                                 single, "horizontal")
+
+        def guard(x, y, w):    # where H - A < V a half-day may need the clamp
+            return w - exact("vertical")(x, y) >= -_TOL * _FLOOR * (upper - lower)
+
+        tab0, st = _checked_table(h_minus_a, nodes, grid, opts["sub"], guard)
+    table.mode, table.exact_kind, table.nodes = mode, _EX_DD, nodes.size
+    table.grid = (*grid, tab0)
+    ipar = np.array([METHODS.index(method), CUTOFFS.index(cutoff), 0, 0])
+    table.kern = (np.array([lower, upper, 0, 0, 0, 0, 0.0]), ipar, *_NO_KERN[2:])
+    table.__dict__.update(st)
+    return table
+
+
+def _build_development(model: str, params: dict, diurnal: str = "sine",
+                       t_range: tuple[float, float] = T_RANGE, coefficients: dict | None = None,
+                       n_nodes: int = dev.DEFAULT_NODES, **grid) -> DailyTable:
+    code = model_code(model)
+    packed = pack_params(code, params)
+    lo, hi = rate_limits(code, params)
+    d = dev._diurnal_code(diurnal)
+    opts = _grid_options("development" if d == dev._SINE else "parton_logan", grid)
+    coef = dev._pl_coefficients(coefficients)
+    spec = dict(model=model, params=dict(params), diurnal=diurnal, t_range=tuple(t_range),
+                coefficients=dict(zip("abc", coef.tolist())), n_nodes=n_nodes, **opts)
+    table = DailyTable("development", spec, "table" if d == dev._SINE else "quadrature")
+    par = (np.array([0.0, 0.0, lo, hi, *coef]), np.array([0, 0, code, code in dev._POWER_HI]),
+           packed, *dev.quadrature_nodes(n_nodes))
+
+    def exact(x, y, w=None, dl=None):
+        return dev.development_block(x, y, code, packed, (lo, hi), diurnal=d, tmin_next=w,
+                                     daylength=dl, coefficients=coef, n_nodes=n_nodes)
+
+    if d == dev._SINE:
+        nodes, dj = _graded_axis(t_range, [lo, hi], opts["h_min"], opts["h_max"],
+                                 opts["grade"])
+        grid = _locator(nodes, dj)
+        tab, st = _checked_table(exact, nodes, grid, opts["sub"])
+        table.mode, table.exact_kind, table.nodes = _ONE, _EX_SINE, nodes.size
+        table.grid, table.kern = (*grid, tab), (*par, _NO2D, _NO2D)
+        table.__dict__.update(st)
+        return table
+    # Parton-Logan: uniform rate table with the limits on nodes, Gauss-Legendre per piece
+    h = opts["h_rate"] or (1 / 1024 if code in dev._POWER_HI else 1 / 64)   # measured
+    nodes, dj = _graded_axis(t_range, [lo, hi], h, h, 1.0)
+    r = rate_array(nodes, code, packed, parallel=False)
+    rt = np.stack([r, np.append(np.diff(r), 0.0)], axis=1).reshape(-1).astype(np.float32)
+    rax = np.array([nodes[0], 1.0 / dj, nodes.size - 2, t_range[0], t_range[1]], np.float32)
+    table.grid = (rax, rt, _NOINT, _NOINT, _NONE32)
+    n_gauss = opts["n_gauss"] or (10 if MODELS[code] == "sharpe_schoolfield" else 8)
+    table.kern = (*par, *dev.quadrature_nodes(int(n_gauss)))      # measured, as h above
+    table.mode, table.exact_kind, table.nodes = _PLQ, _EX_PL, nodes.size
+    rng = np.random.default_rng(20240101)          # seeded realistic check days
+    lo_t, hi_t = max(t_range[0], -15.0), min(t_range[1], 45.0)
+    tmin = rng.uniform(lo_t, hi_t - 5.0, 20000)
+    days = (tmin, np.minimum(tmin + rng.gamma(2.0, 5.0, tmin.size), hi_t),
+            np.clip(tmin + rng.normal(0.0, 3.0, tmin.size), lo_t, hi_t),
+            rng.uniform(0.0, 24.0, tmin.size))
+    ex = exact(*days)
+    err = np.abs(table.evaluate(days[0], days[1], tmin_next=days[2], daylength=days[3]) - ex)
+    table.peak = float(ex.max())
+    big = ex > _FLOOR * table.peak
+    table.max_abs_error = float(err.max())
+    table.max_rel_error = float((err[big] / ex[big]).max(initial=0.0))
+    return table
+
+
+def degree_day_table(lower: float, upper: float, method: str = "single_sine",
+                     cutoff: str = "horizontal", **options) -> DailyTable:
+    """Fast daily degree-days for one set of thresholds, method and cutoff.
+
+    Default: the closed form of ``degree_days_block`` (measured faster than
+    a lookup).  ``strategy="table"`` (sine and triangle methods): single
+    methods one lookup of the day's value; double methods two half-day
+    lookups, ½F(Tmin, Tmax) + ½F(Tmin_next, Tmax) [2]_.  The intermediate
+    cutoff acts on the whole day, max(V, H − A): the table holds H − A (A =
+    degree-days above U) and cells where a half-day has H − A < V are
+    computed exactly, so ½((H−A)1 + (H−A)2) is used only where it is the
+    maximum.  ``options``: ``t_range`` (°C, default ``T_RANGE``),
+    ``strategy``, ``h_min``, ``h_max``, ``grade``, ``sub`` (module notes).
+    Raises ValueError for unknown names, options or bad thresholds.
+
+    References
+    ----------
+    .. [1] Baskerville & Emin (1969) Ecology 50:514-517.
+    .. [2] Allen (1976) Environmental Entomology 5:388-396; Zalom et al.
+       (1983) University of California DANR Leaflet 21373.
+    """
+    return DailyTable.build("degree_days", lower=lower, upper=upper, method=method,
+                            cutoff=cutoff, **options)
+
+
+def development_table(model: str, params: dict, *, diurnal: str = "sine",
+                      **options) -> DailyTable:
+    """Fast daily development for one rate curve and diurnal curve.
+
+    ``diurnal="sine"``: a graded (Tmin, Tmax) table with the rate limits
+    (``rates.rate_limits``) on grid lines.  ``"parton_logan"``: per cell,
+    Gauss-Legendre (``n_gauss`` nodes per piece; default 8, 10 for
+    Sharpe-Schoolfield) over a table of the rate curve (step ``h_rate``,
+    default 1/64 °C, 1/1024 °C for the Briere square root); evaluate with
+    ``daylength`` and ``tmin_next``.  ``options``: ``t_range``,
+    ``coefficients``, ``n_nodes`` (exact kernel), the grid options.
+    Raises ValueError as ``suitmap.kernels.rates.validate_params``.
+
+    References
+    ----------
+    .. [1] Baskerville & Emin (1969) Ecology 50:514-517.
+    .. [2] Parton & Logan (1981) Agricultural Meteorology 23:205-216.
+    """
+    return DailyTable.build("development", model=model, params=params, diurnal=diurnal,
+                            **options)
