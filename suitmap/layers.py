@@ -54,9 +54,11 @@ def season_windows(profile: Profile) -> tuple[SeasonWindow, SeasonWindow, bool]:
     return w, w, False
 
 
-def _daily_development(tn, tx, nxt, lat, doy, curve):
+def _daily_development(tn, tx, nxt, lat, doy, curve, table=None):
     """Development per day by rate summation over the day's temperature curve."""
     model, params, diurnal = curve
+    if table is not None:  # the fast path: a (Tmin, Tmax) table of the sine-day integral
+        return table.evaluate(tn, tx, parallel=False)
     daylength = None
     if diurnal == "parton_logan":
         daylength = _daylength(np.broadcast_to(lat[..., None], tn.shape),
@@ -67,7 +69,7 @@ def _daily_development(tn, tx, nxt, lat, doy, curve):
 
 def _season_block(tmin: np.ndarray, tmax: np.ndarray, lat: np.ndarray, *,
                   slices_north, slices_south, per_hemisphere, doy, lower, upper, method, cutoff,
-                  dd_per_gen, curve, lethal_cold, lethal_heat) -> np.ndarray:
+                  dd_per_gen, curve, lethal_cold, lethal_heat, table=None) -> np.ndarray:
     """Season statistics of one block; arrays arrive as (y, x, time)."""
     tmin = np.ascontiguousarray(tmin)
     tmax = np.ascontiguousarray(tmax)
@@ -100,7 +102,8 @@ def _season_block(tmin: np.ndarray, tmax: np.ndarray, lat: np.ndarray, *,
                 reached = cum >= dd_per_gen
             else:
                 total = dd.sum(axis=-1)
-                cum = np.cumsum(_daily_development(tn, tx, nxt, lat, doy[i0:i1], curve), axis=-1)
+                cum = np.cumsum(_daily_development(tn, tx, nxt, lat, doy[i0:i1], curve, table),
+                                axis=-1)
                 development = cum[..., -1]
                 reached = cum >= 1.0
             first = np.where(reached.any(axis=-1), reached.argmax(axis=-1) + 1.0, np.nan)
@@ -117,7 +120,7 @@ def _season_block(tmin: np.ndarray, tmax: np.ndarray, lat: np.ndarray, *,
 
 
 def season_statistics(tmin: xr.DataArray, tmax: xr.DataArray, profile: Profile,
-                      years: tuple[int, int], *, label: str = "") -> xr.Dataset:
+                      years: tuple[int, int], *, label: str = "", fast: bool = True) -> xr.Dataset:
     """Lazy per-season statistics (dims ``season_year, y, x``) for one period.
 
     ``tmin``/``tmax`` must already be limited to (at least) the period's
@@ -155,6 +158,11 @@ def season_statistics(tmin: xr.DataArray, tmax: xr.DataArray, profile: Profile,
         lat_da = lat_da.chunk({"y": tmin.chunks[1], "x": tmin.chunks[2]})
     rc = dev.rate_curve
     curve = None if rc is None else (rc.model, rc.as_dict(), dev.diurnal)
+    table = None
+    if fast and curve is not None and dev.diurnal == "sine":
+        from .kernels.tables import development_table
+
+        table = development_table(rc.model, rc.as_dict(), diurnal="sine")
     doy = np.asarray(tmin["time"].dt.dayofyear.values, dtype=float)
     stats = xr.apply_ufunc(
         _season_block,
@@ -171,7 +179,7 @@ def season_statistics(tmin: xr.DataArray, tmax: xr.DataArray, profile: Profile,
                     per_hemisphere=per_hemisphere, doy=doy,
                     lower=dev.lower_threshold, upper=dev.upper_threshold,
                     method=dev.method, cutoff=dev.cutoff,
-                    dd_per_gen=dev.degree_days_per_generation, curve=curve,
+                    dd_per_gen=dev.degree_days_per_generation, curve=curve, table=table,
                     lethal_cold=surv.lethal_cold, lethal_heat=surv.lethal_heat),
     )
     stats.attrs = {}
@@ -270,9 +278,13 @@ def period_layers(stats: xr.Dataset, profile: Profile) -> xr.Dataset:
 
 
 def compute_layers(tmin: xr.DataArray, tmax: xr.DataArray, profile: Profile,
-                   years: tuple[int, int], *, label: str = "") -> xr.Dataset:
-    """Lazy output layers (dims ``y, x``) of one period; CRS copied from the input."""
-    stats = season_statistics(tmin, tmax, profile, years, label=label)
+                   years: tuple[int, int], *, label: str = "", fast: bool = True) -> xr.Dataset:
+    """Lazy output layers (dims ``y, x``) of one period; CRS copied from the input.
+
+    ``fast``: rate summation over the sine day uses a precomputed (Tmin, Tmax)
+    table (within 1e-3 of the exact integral; see :mod:`suitmap.kernels.tables`).
+    """
+    stats = season_statistics(tmin, tmax, profile, years, label=label, fast=fast)
     ds = period_layers(stats, profile)
     crs = tmin.rio.crs
     for c in ("x", "y"):

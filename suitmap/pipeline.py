@@ -251,7 +251,8 @@ def compute_run(run: RunFile | str | Path) -> RunLayers:
             ds = normal_route_layers(pc.tmin, pc.tmax, profile, years, run.daily_sd)
             ds.attrs["period"] = period.name
         else:
-            ds = compute_layers(pc.tmin, pc.tmax, profile, years, label=period.name)
+            ds = compute_layers(pc.tmin, pc.tmax, profile, years, label=period.name,
+                                fast=run.fast_tables)
             if "monthly_route" in pc.tmin.attrs:
                 ds.attrs["monthly_route"] = pc.tmin.attrs["monthly_route"]
         if period.delta is not None:
@@ -271,7 +272,8 @@ def compute_run(run: RunFile | str | Path) -> RunLayers:
         inputs[period.name] = pc.files
         keys[period.name] = period_key(profile.to_dict(), period, pc.files,
                                        None if period is run.baseline else inputs[run.baseline.name],
-                                       {"monthly_route": run.monthly_route, "daily_sd": run.daily_sd})
+                                       {"monthly_route": run.monthly_route, "daily_sd": run.daily_sd,
+                                        "fast_tables": run.fast_tables})
     comps, ensembles = derive(run, periods)
     return RunLayers(run, profile, periods, comps, inputs, ensembles, keys)
 

@@ -68,6 +68,7 @@ class RunFile:
     chunk_cells: int | None = None
     monthly_route: str = "interpolate"
     daily_sd: float | None = None
+    fast_tables: bool = True
     raw: dict[str, Any] = field(default_factory=dict, compare=False, repr=False)
 
     @property
@@ -275,7 +276,10 @@ def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
     compute = raw.get("compute", {})
     if not isinstance(compute, dict):
         raise RunFileError(f"{where}: [compute] must be a table")
-    _keys(compute, ("chunk_cells", "monthly_route", "daily_sd"), where, "compute")
+    _keys(compute, ("chunk_cells", "monthly_route", "daily_sd", "fast_tables"), where, "compute")
+    fast = compute.get("fast_tables", True)
+    if not isinstance(fast, bool):
+        raise RunFileError(f"{where}: compute.fast_tables must be true or false")
     route = compute.get("monthly_route", "interpolate")
     if route not in ("interpolate", "normal"):
         raise RunFileError(f"{where}: compute.monthly_route must be \"interpolate\" or \"normal\"")
@@ -288,7 +292,7 @@ def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
 
     return RunFile(path=path, profile_path=Path(_resolve(base, prof["path"])), baseline=baseline,
                    scenarios=scenarios, output=output, chunk_cells=chunk, monthly_route=route,
-                   daily_sd=None if sd is None else float(sd), raw=raw)
+                   daily_sd=None if sd is None else float(sd), fast_tables=fast, raw=raw)
 
 
 def load_run(path: str | Path) -> RunFile:
