@@ -172,7 +172,14 @@ def _spatial_dim(da: xr.DataArray, names, std_names, axis: str, where: str) -> s
                      f"name it {' or '.join(names[:3])}")
 
 
-def _open_netcdf(path: Path, role: str, variable, cy, cx) -> dict:
+def _aligned(file_chunk, target: int, size: int) -> int:
+    """A dask chunk size: the multiple of the file's chunk nearest ``target`` (or ``target``)."""
+    if not file_chunk or file_chunk >= size:
+        return min(target, size)
+    return int(min(size, file_chunk * max(1, round(target / file_chunk))))
+
+
+def _open_netcdf(path: Path, role: str, variable, cy, cx, file_chunks: bool = False) -> dict:
     try:
         ds = xr.open_dataset(path, engine="netcdf4", decode_coords="all", mask_and_scale=True, cache=False)
     except Exception as exc:  # netCDF4/xarray raise many kinds
@@ -198,7 +205,13 @@ def _open_netcdf(path: Path, role: str, variable, cy, cx) -> dict:
     tcoord = da[tdim]
     cal = tcoord.encoding.get("calendar") or (
         tcoord.values.flat[0].calendar if tcoord.dtype == object else "standard")
-    da = da.chunk({tdim: -1, ydim: cy, xdim: cx})
+    if file_chunks:  # follow the file's own chunks: no read touches a file chunk twice
+        fc = dict(zip(da.dims, da.encoding.get("chunksizes") or (None,) * da.ndim))
+        da = da.chunk({tdim: _aligned(fc.get(tdim), 366, da.sizes[tdim]),
+                       ydim: _aligned(fc.get(ydim), cy, da.sizes[ydim]),
+                       xdim: _aligned(fc.get(xdim), cx, da.sizes[xdim])})
+    else:
+        da = da.chunk({tdim: -1, ydim: cy, xdim: cx})
     return dict(da=da, dims=(tdim, ydim, xdim), crs=crs, geo_names=geo_names, path=path,
                 variable=name, units=da.attrs.get("units"), where=where,
                 calendar=_canonical_calendar(cal, where))
@@ -390,7 +403,8 @@ def _axis_attrs(crs: CRS) -> dict:
 
 
 def open_climate(paths, role: str, *, variable: str | None = None, chunks: dict | None = None,
-                 label: str = "", allow_monthly: bool = False) -> xr.DataArray:
+                 label: str = "", allow_monthly: bool = False,
+                 file_chunks: bool = False) -> xr.DataArray:
     """Open daily ``tmin`` or ``tmax`` from NetCDF/GeoTIFF files as one lazy °C array.
 
     Parameters
@@ -410,6 +424,10 @@ def open_climate(paths, role: str, *, variable: str | None = None, chunks: dict 
         Accept monthly means too (one value per calendar month, consecutive
         months, or 12 months of a climatology); such arrays get
         ``attrs["frequency"] = "monthly"``.  Daily arrays get ``"daily"``.
+    file_chunks : bool
+        Chunk along time too, following the NetCDF files' own chunks (about a
+        year per chunk, spatial chunks a multiple of the file's near ``chunks``)
+        instead of one chunk for the whole time axis; for streaming pipelines.
 
     Returns
     -------
@@ -435,7 +453,8 @@ def open_climate(paths, role: str, *, variable: str | None = None, chunks: dict 
             raise InputError(f"{label or role} file {path} does not exist; check the path")
         if suffix not in NETCDF_SUFFIXES + GEOTIFF_SUFFIXES:
             raise InputError(f"{path.name}: unknown file type '{suffix}'; use NetCDF (.nc) or GeoTIFF (.tif)")
-        p = _open_netcdf(path, role, variable, cy, cx) if suffix in NETCDF_SUFFIXES else _open_geotiff(path, cy, cx)
+        p = (_open_netcdf(path, role, variable, cy, cx, file_chunks) if suffix in NETCDF_SUFFIXES
+             else _open_geotiff(path, cy, cx))
         p["da"], p["crs"] = _normalise(p)
         pieces.append(p)
     p0, crs = pieces[0], pieces[0]["crs"]
@@ -457,7 +476,8 @@ def open_climate(paths, role: str, *, variable: str | None = None, chunks: dict 
     else:
         _check_daily(da["time"].values, f"{label or role} ({names})")
         frequency = "daily"
-    da = da.chunk({"time": -1, "y": cy, "x": cx})
+    if not file_chunks:
+        da = da.chunk({"time": -1, "y": cy, "x": cx})
     for dim, attrs in _axis_attrs(crs).items():
         da[dim].attrs = attrs
     da["time"].attrs = {"standard_name": "time", "axis": "T"}

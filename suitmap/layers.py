@@ -74,6 +74,8 @@ def _season_block(tmin: np.ndarray, tmax: np.ndarray, lat: np.ndarray, *,
     tmin = np.ascontiguousarray(tmin)
     tmax = np.ascontiguousarray(tmax)
     ny, nx, nt = tmin.shape
+    if slices_north is None:
+        slices_north = [None] * len(slices_south)
     nseason = len(slices_north)
     out = np.full((ny, nx, len(SEASON_STATS), nseason), np.nan)
     lat = np.asarray(lat, dtype=float)
@@ -164,24 +166,38 @@ def season_statistics(tmin: xr.DataArray, tmax: xr.DataArray, profile: Profile,
 
         table = development_table(rc.model, rc.as_dict(), diurnal="sine")
     doy = np.asarray(tmin["time"].dt.dayofyear.values, dtype=float)
-    stats = xr.apply_ufunc(
-        _season_block,
-        tmin.chunk({"time": -1}) if tmin.chunks is not None else tmin,
-        tmax.chunk({"time": -1}) if tmax.chunks is not None else tmax,
-        lat_da,
-        input_core_dims=[["time"], ["time"], []],
-        output_core_dims=[["stat", "season_year"]],
-        dask="parallelized",
-        output_dtypes=[np.float64],
-        dask_gufunc_kwargs={"output_sizes": {"stat": len(SEASON_STATS),
-                                             "season_year": len(season_years)}},
-        kwargs=dict(slices_north=slices_n, slices_south=slices_s,
-                    per_hemisphere=per_hemisphere, doy=doy,
-                    lower=dev.lower_threshold, upper=dev.upper_threshold,
-                    method=dev.method, cutoff=dev.cutoff,
-                    dd_per_gen=dev.degree_days_per_generation, curve=curve, table=table,
-                    lethal_cold=surv.lethal_cold, lethal_heat=surv.lethal_heat),
-    )
+    nt = tmin.sizes["time"]
+    common = dict(per_hemisphere=per_hemisphere, lower=dev.lower_threshold,
+                  upper=dev.upper_threshold, method=dev.method, cutoff=dev.cutoff,
+                  dd_per_gen=dev.degree_days_per_generation, curve=curve, table=table,
+                  lethal_cold=surv.lethal_cold, lethal_heat=surv.lethal_heat)
+    # one small computation per season-year: each task holds one season of one spatial
+    # chunk (plus the next day, for the double methods), so memory does not grow with the
+    # length of the period
+    per_season = []
+    for k in range(len(season_years)):
+        parts = [sl for sl in (slices_n[k], slices_s[k]) if sl is not None]
+        s0, s1 = min(a for a, _ in parts), max(b for _, b in parts)
+        stop = min(s1 + 1, nt)
+
+        def rel(sl):
+            return None if sl is None else [(sl[0] - s0, sl[1] - s0)]
+
+        window = dict(time=slice(s0, stop))
+        tn, tx = tmin.isel(window), tmax.isel(window)
+        if tn.chunks is not None:
+            tn, tx = tn.chunk({"time": -1}), tx.chunk({"time": -1})
+        per_season.append(xr.apply_ufunc(
+            _season_block, tn, tx, lat_da,
+            input_core_dims=[["time"], ["time"], []],
+            output_core_dims=[["stat", "season_year"]],
+            dask="parallelized",
+            output_dtypes=[np.float64],
+            dask_gufunc_kwargs={"output_sizes": {"stat": len(SEASON_STATS), "season_year": 1}},
+            kwargs=dict(slices_north=rel(slices_n[k]), slices_south=rel(slices_s[k]) or [None],
+                        doy=doy[s0:stop], **common),
+        ))
+    stats = xr.concat(per_season, dim="season_year") if len(per_season) > 1 else per_season[0]
     stats.attrs = {}
     stats = stats.assign_coords(season_year=np.array(season_years, dtype=np.int64),
                                 stat=list(SEASON_STATS))

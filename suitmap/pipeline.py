@@ -29,8 +29,9 @@ CHUNK_BYTES = 32 * 2**20
 
 
 def chunk_side(n_days: int, chunk_cells: int | None = None) -> int:
-    """Side (cells) of the square spatial chunks: one chunk of one variable
-    over the whole time axis stays near :data:`CHUNK_BYTES`."""
+    """Side (cells) of the square spatial chunks: ``n_days`` days of one chunk of
+    one variable stay near :data:`CHUNK_BYTES` (layers are computed one season
+    at a time, so ``n_days`` is a season's length)."""
     if chunk_cells:
         return max(1, int(math.isqrt(chunk_cells)))
     return max(8, int(math.isqrt(CHUNK_BYTES // (4 * max(n_days, 1)))))
@@ -55,9 +56,9 @@ def _open_role(src, role: str, label: str, years: tuple[int, int], extra: int):
     paths: list[Path] = []
     for pattern in src.patterns:
         paths.extend(climate.resolve_paths(pattern, what=f"{label} {role}"))
-    side = chunk_side(366 * (years[1] - years[0] + 2))
+    side = chunk_side(366)
     da = climate.open_climate(paths, role, variable=src.variable, label=label,
-                              chunks={"y": side, "x": side})
+                              chunks={"y": side, "x": side}, file_chunks=True)
     first, last = years
     climate.select_years(da, first, last, label=f"{label} {role}")
     y = da["time"].dt.year
@@ -106,12 +107,12 @@ def open_period(period: Period, profile: Profile, *, chunk_cells: int | None = N
         for pattern in src.patterns:
             paths.extend(climate.resolve_paths(pattern, what=f"{period.name} {role}"))
         files[role] = [str(p) for p in paths]
-        # open with the final spatial chunks: re-chunking whole-time-axis chunks later would
-        # hold the larger ones in memory
-        n_days = 366 * (period.years[1] - period.years[0] + 2)
-        side = chunk_side(n_days, chunk_cells)
+        # stream: chunks follow the files (about a year of days each) and the layers are
+        # computed one season at a time, so memory stays bounded by the chunk size
+        side = chunk_side(366, chunk_cells)
         da = climate.open_climate(paths, role, variable=src.variable, label=period.name,
-                                  allow_monthly=True, chunks={"y": side, "x": side})
+                                  allow_monthly=True, chunks={"y": side, "x": side},
+                                  file_chunks=True)
         first, last = period.years
         if da.attrs.get("frequency") == "monthly":
             if monthly_route == "normal":
@@ -136,9 +137,7 @@ def open_period(period: Period, profile: Profile, *, chunk_cells: int | None = N
             f"{period.name}: tmin and tmax files hold different days "
             f"({tmin.sizes['time']} vs {tmax.sizes['time']}); give files covering the same dates"
         )
-    chunks = {"time": -1, "y": side, "x": side}
-    tmin = tmin.chunk(chunks)
-    tmax = tmax.chunk(chunks)
+    tmax = tmax.chunk(dict(zip(tmax.dims, tmin.chunks)))  # the same blocks as tmin
     report = climate.qa_summary(tmin, tmax, period.name) if qa else None
     tmin, tmax, swapped = _swap_lazily(tmin, tmax)
     return PeriodClimate(period, tmin, tmax, swapped, report, files)
