@@ -29,7 +29,7 @@ import xarray as xr
 
 from . import __version__
 from .errors import OutputError
-from .writers.atomic import atomic_path, atomic_write_text
+from .writers.atomic import TEMP_MARK, atomic_path, atomic_write_text
 
 STATE_DIR = ".suitmap"
 
@@ -110,6 +110,7 @@ class OutputFolder:
                     shutil.rmtree(child) if child.is_dir() else child.unlink()
             shutil.rmtree(self.cache_dir, ignore_errors=True)
         self.cache_dir.mkdir(exist_ok=True)
+        self._remove_stale_temporaries()
         atomic_write_text(self.state_dir / "state.json",
                           json.dumps({"run_file": self.run_file, "suitmap": __version__}) + "\n")
         return self
@@ -122,6 +123,12 @@ class OutputFolder:
                 pass
             self._locked = False
         return False
+
+    def _remove_stale_temporaries(self) -> None:
+        """Temporary files a killed run left behind (we hold the lock: nobody else writes)."""
+        for p in self.path.rglob(f".*{TEMP_MARK}*"):
+            if p.is_file():
+                p.unlink(missing_ok=True)
 
     def _lock(self) -> None:
         me = {"pid": os.getpid(), "host": socket.gethostname(), "started": time.time()}

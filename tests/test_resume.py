@@ -97,3 +97,18 @@ def test_concurrent_run_is_refused_and_stale_lock_taken_over(small_case):
     lock.write_text(json.dumps({"pid": dead.pid, "host": os.uname().nodename}))
     suitmap.run(run)
     assert not lock.exists()
+
+
+def test_temporary_files_of_a_killed_run_are_cleaned(small_case):
+    run = small_case["run"]
+    run.write_text(run.read_text().replace('formats = ["geotiff", "netcdf", "png"]',
+                                           'formats = ["netcdf"]'))
+    suitmap.run(run)
+    out = small_case["dir"] / "results"
+    # what a SIGKILL between creating and renaming a temporary file leaves behind
+    stale = [out / "baseline" / ".layers.nc.k1ll3d.part.nc",
+             out / ".suitmap" / "cache" / ".baseline.x.nc.abcd.part.nc"]
+    for p in stale:
+        p.write_bytes(b"")
+    suitmap.run(run)
+    assert not any(p.exists() for p in stale)
