@@ -176,7 +176,9 @@ def _aligned(file_chunk, target: int, size: int) -> int:
     """A dask chunk size: the multiple of the file's chunk nearest ``target`` (or ``target``)."""
     if not file_chunk or file_chunk >= size:
         return min(target, size)
-    return int(min(size, file_chunk * max(1, round(target / file_chunk))))
+    if file_chunk > target:  # an even part of the file's chunk (the HDF5 chunk cache serves the rest)
+        return int(-(-file_chunk // -(-file_chunk // target)))
+    return int(min(size, file_chunk * max(1, target // file_chunk)))
 
 
 def _open_netcdf(path: Path, role: str, variable, cy, cx, file_chunks: bool = False) -> dict:

@@ -23,6 +23,7 @@ from .errors import InputError
 from .kernels.degree_days import degree_days_block
 from .kernels.development import daily_development as _dev_kernel
 from .kernels.diurnal import daylength as _daylength
+from .kernels.season import season_reduce
 from .metadata import LIMITING_FACTOR_CLASSES, MISSING_CLASS, layer_attrs
 from .profile import Profile
 from .seasons import (NORTH_DEFAULT, SOUTH_DEFAULT, SeasonWindow, complete_seasons,
@@ -70,9 +71,11 @@ def _daily_development(tn, tx, nxt, lat, doy, curve, table=None):
 def _season_block(tmin: np.ndarray, tmax: np.ndarray, lat: np.ndarray, *,
                   slices_north, slices_south, per_hemisphere, doy, lower, upper, method, cutoff,
                   dd_per_gen, curve, lethal_cold, lethal_heat, table=None) -> np.ndarray:
-    """Season statistics of one block; arrays arrive as (y, x, time)."""
-    tmin = np.ascontiguousarray(tmin)
-    tmax = np.ascontiguousarray(tmax)
+    """Season statistics of one block; arrays arrive as (y, x, time).
+
+    Days with Tmin > Tmax are swapped here (the smaller value is the minimum).
+    """
+    tmin, tmax = np.minimum(tmin, tmax), np.maximum(tmin, tmax)  # contiguous copies
     ny, nx, nt = tmin.shape
     if slices_north is None:
         slices_north = [None] * len(slices_south)
@@ -98,25 +101,16 @@ def _season_block(tmin: np.ndarray, tmax: np.ndarray, lat: np.ndarray, *,
             # dask already runs blocks in parallel threads: the kernel runs serially here
             dd = degree_days_block(tn, tx, nxt, lower, upper, method, cutoff, parallel=False)
             if curve is None:
-                cum = np.cumsum(dd, axis=-1)
-                total = cum[..., -1]
+                total, first, cold, heat, mean_tmax = season_reduce(
+                    dd, tn, tx, dd_per_gen, lethal_cold, lethal_heat)
                 development = total / dd_per_gen
-                reached = cum >= dd_per_gen
             else:
+                daily = _daily_development(tn, tx, nxt, lat, doy[i0:i1], curve, table)
+                development, first, cold, heat, mean_tmax = season_reduce(
+                    daily, tn, tx, 1.0, lethal_cold, lethal_heat)
                 total = dd.sum(axis=-1)
-                cum = np.cumsum(_daily_development(tn, tx, nxt, lat, doy[i0:i1], curve, table),
-                                axis=-1)
-                development = cum[..., -1]
-                reached = cum >= 1.0
-            first = np.where(reached.any(axis=-1), reached.argmax(axis=-1) + 1.0, np.nan)
-            missing = np.isnan(total) | np.isnan(development)
-            cold = (np.count_nonzero(tn <= lethal_cold, axis=-1).astype(float)
-                    if lethal_cold is not None else np.zeros(total.shape))
-            heat = (np.count_nonzero(tx >= lethal_heat, axis=-1).astype(float)
-                    if lethal_heat is not None else np.zeros(total.shape))
-            mean_tmax = tx.mean(axis=-1, dtype=np.float64)
             stats = np.stack([total, development, first, cold, heat, mean_tmax], axis=-1)
-            stats[missing] = np.nan
+            stats[np.isnan(total) | np.isnan(development)] = np.nan
             out[cells, :, k] = stats[cells]
     return out
 

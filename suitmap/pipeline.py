@@ -144,12 +144,13 @@ def open_period(period: Period, profile: Profile, *, chunk_cells: int | None = N
 
 
 def _swap_lazily(tmin: xr.DataArray, tmax: xr.DataArray):
-    """Swap Tmin/Tmax where Tmin > Tmax; the count stays lazy (computed with the layers)."""
+    """Count cell-days with Tmin > Tmax lazily (computed with the layers).
+
+    The swap itself happens inside the season blocks (``layers._season_block``
+    takes the smaller of the two as the minimum), which costs no extra pass.
+    """
     tmax = tmax.assign_coords(time=tmin["time"], y=tmin["y"], x=tmin["x"])
-    swap = tmin > tmax
-    new_min, new_max = tmin.where(~swap, tmax), tmax.where(~swap, tmin)
-    new_min.attrs, new_max.attrs = dict(tmin.attrs), dict(tmax.attrs)
-    return new_min, new_max, xr.DataArray(swap.sum().data)
+    return tmin, tmax, xr.DataArray((tmin > tmax).sum().data)
 
 
 def check_run(run: RunFile | str | Path) -> tuple[RunFile, Profile, list[PeriodClimate]]:

@@ -175,3 +175,23 @@ def test_layers_are_lazy_and_carry_cf_attrs(small_case):
     assert ds["degree_days"].attrs["standard_name"] == "integral_wrt_time_of_air_temperature_excess"
     assert ds["limiting_factor"].attrs["flag_meanings"].split()[0] == "none"
     assert ds.rio.crs is not None
+
+
+def test_crossed_days_are_swapped_and_counted(tmp_path):
+    """Days with Tmin > Tmax give the same layers as the repaired days, with a warning."""
+    from suitmap.errors import SuitmapWarning
+
+    tmin, tmax = make_tmin_tmax(365, 2, 2, seed=13)
+    prof = write_profile(tmp_path)
+    good = write_period(tmp_path / "g", "g", tmin, tmax)
+    bad_min, bad_max = tmin.copy(), tmax.copy()
+    bad_min[100:103, 0, 1], bad_max[100:103, 0, 1] = tmax[100:103, 0, 1], tmin[100:103, 0, 1]
+    bad = write_period(tmp_path / "b", "b", bad_min, bad_max)
+    runs = [write_runfile(tmp_path, prof, [{"name": "baseline", "years": (2001, 2001),
+                                            "tmin": f"{d}/{f[0]}", "tmax": f"{d}/{f[1]}"}],
+                          out=f"out_{d}") for d, f in (("g", good), ("b", bad))]
+    a = layers_of(runs[0]).periods["baseline"]
+    with pytest.warns(SuitmapWarning, match="3 cell-days had Tmin > Tmax"):
+        b = layers_of(runs[1]).periods["baseline"]
+    np.testing.assert_array_equal(a["degree_days"].values, b["degree_days"].values)
+    assert b.attrs["tmin_tmax_swapped_cell_days"] == 3
