@@ -22,6 +22,12 @@ def digest(root):
             for p in root.rglob("*") if p.is_file() and ".suitmap" not in p.parts}
 
 
+def netcdf_only(run):
+    """Write only NetCDF outputs (these tests are about caching, not formats)."""
+    run.write_text(run.read_text().replace('formats = ["geotiff", "netcdf", "png"]',
+                                           'formats = ["netcdf"]'))
+
+
 def cli(run, *extra, **kw):
     return subprocess.Popen([sys.executable, "-m", "suitmap", "run", str(run), "--quiet", *extra],
                             stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, **kw)
@@ -54,8 +60,7 @@ def test_killed_run_resumes_to_identical_outputs(small_case, reference, delays):
 
 def test_cache_invalidation(small_case):
     run = small_case["run"]
-    run.write_text(run.read_text().replace('formats = ["geotiff", "netcdf", "png"]',
-                                           'formats = ["netcdf"]'))
+    netcdf_only(run)
     suitmap.run(run)
     cache = small_case["dir"] / "results" / ".suitmap" / "cache"
     first = {p.name: p.stat().st_mtime_ns for p in cache.iterdir()}
@@ -83,8 +88,7 @@ def test_cache_invalidation(small_case):
 
 def test_concurrent_run_is_refused_and_stale_lock_taken_over(small_case):
     run = small_case["run"]
-    run.write_text(run.read_text().replace('formats = ["geotiff", "netcdf", "png"]',
-                                           'formats = ["netcdf"]'))
+    netcdf_only(run)
     suitmap.run(run)
     lock = small_case["dir"] / "results" / ".suitmap" / "lock"
     # a live process holds the lock (this test process itself)
@@ -101,8 +105,7 @@ def test_concurrent_run_is_refused_and_stale_lock_taken_over(small_case):
 
 def test_temporary_files_of_a_killed_run_are_cleaned(small_case):
     run = small_case["run"]
-    run.write_text(run.read_text().replace('formats = ["geotiff", "netcdf", "png"]',
-                                           'formats = ["netcdf"]'))
+    netcdf_only(run)
     suitmap.run(run)
     out = small_case["dir"] / "results"
     # what a SIGKILL between creating and renaming a temporary file leaves behind
