@@ -43,7 +43,7 @@ _PARALLEL_MIN = 65536   # below this many elements the serial loop is used
 # Written without early returns (every value computed, then chosen with
 # conditional expressions) so that LLVM vectorises the loops; error_model
 # "numpy": a division by zero gives inf/nan in a value that is never chosen.
-_JIT = dict(cache=True, error_model="numpy")
+_JIT = dict(cache=True, nogil=True, error_model="numpy")  # nogil: dask threads run kernels at once
 _INLINE = dict(_JIT, inline="always")
 
 # asin(x) = x + x*z*Q(z), z = x*x, |x| <= 1/2: least-squares Chebyshev fit of

@@ -42,8 +42,8 @@ _POWER_HI = (1, 2)  # briere1, briere2: (t_high - T)^(1/m) at the upper limit
 _HALF_PI = 0.5 * math.pi
 _CHUNK = 4096           # elements per parallel work item (an element is ~1 us)
 _PARALLEL_MIN = 8192
-_INLINE = dict(cache=True, error_model="numpy", inline="always")
-_JIT = dict(cache=True, error_model="numpy")
+_INLINE = dict(cache=True, nogil=True, error_model="numpy", inline="always")
+_JIT = dict(cache=True, nogil=True, error_model="numpy")  # nogil: dask threads run kernels at once
 
 
 @lru_cache(maxsize=16)

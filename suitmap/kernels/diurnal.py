@@ -33,7 +33,7 @@ SINE_HOUR_OF_MIN = 3.0
 PARTON_LOGAN_150CM = {"a": 1.86, "b": 2.20, "c": -0.17}
 """Parton & Logan (1981) coefficients for air temperature at 150 cm."""
 
-_JIT = dict(cache=True, error_model="numpy")
+_JIT = dict(cache=True, nogil=True, error_model="numpy")  # nogil: dask threads run kernels at once
 _TWO_PI = 2.0 * math.pi
 
 # ----------------------------------------------------------- scalar kernels

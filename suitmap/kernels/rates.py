@@ -48,7 +48,7 @@ _LINEAR, _BRIERE1, _BRIERE2, _LACTIN1, _LACTIN2, _LOGAN6, _SHARPE = range(7)
 _POSITIVE = ("a", "psi", "rho", "rho25", "thermal_constant", "delta", "m", "ha", "hh")
 _CHUNK = 16384          # elements per parallel work item
 _PARALLEL_MIN = 65536   # below this many elements the serial loop is used
-_JIT = dict(cache=True, error_model="numpy")
+_JIT = dict(cache=True, nogil=True, error_model="numpy")  # nogil: dask threads run kernels at once
 
 
 # ------------------------------------------------------------- scalar curves

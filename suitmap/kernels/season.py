@@ -10,7 +10,7 @@ import numba
 import numpy as np
 
 
-@numba.njit(cache=True)
+@numba.njit(cache=True, nogil=True)  # nogil: dask threads run blocks at once
 def _reduce(daily, tn, tx, threshold, lethal_cold, lethal_heat, total, first, cold, heat, mtx):
     ny, nx, nt = daily.shape
     for j in range(ny):

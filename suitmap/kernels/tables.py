@@ -53,7 +53,7 @@ _EX_DD, _EX_SINE, _EX_PL = range(3)   # exact kernels for the fallback
 _CHUNK = 16384
 _BLOCK = 128                  # values per fast pass; the exact pass scans one block
 _PARALLEL_MIN = 65536
-_JIT = dict(cache=True, error_model="numpy")
+_JIT = dict(cache=True, nogil=True, error_model="numpy")  # nogil: dask threads run kernels at once
 _INLINE = dict(_JIT, inline="always")
 
 
