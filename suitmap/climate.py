@@ -34,7 +34,6 @@ Several files (of either kind) are sorted by their first day and joined on time.
 
 from __future__ import annotations
 
-import datetime as _dt
 import glob
 import os
 import re
@@ -43,7 +42,6 @@ from pathlib import Path
 
 import cftime
 import numpy as np
-import rasterio
 import rioxarray  # noqa: F401  (registers the .rio accessor)
 import xarray as xr
 from pyproj import CRS
@@ -217,67 +215,6 @@ def _open_netcdf(path: Path, role: str, variable, cy, cx, file_chunks: bool = Fa
     return dict(da=da, dims=(tdim, ydim, xdim), crs=crs, geo_names=geo_names, path=path,
                 variable=name, units=da.attrs.get("units"), where=where,
                 calendar=_canonical_calendar(cal, where))
-
-
-# --------------------------------------------------------------------------- GeoTIFF
-def _geotiff_dates(path: Path, n: int, descriptions, band_tags) -> list[str]:
-    if all(d and _ISO_DATE.match(d) for d in descriptions):
-        return list(descriptions)
-    tagged = [next((v for k, v in t.items() if k.lower() == "date"), None) for t in band_tags]
-    if all(d and _ISO_DATE.match(d) for d in tagged):
-        return tagged
-    side = next((c for c in (path.with_suffix(".dates.txt"), path.with_name(path.name + ".dates.txt"))
-                 if c.is_file()), None)
-    if side is None:
-        raise InputError(f"{path.name}: no band dates found (band descriptions, DATE band tags or "
-                         f"{path.stem}.dates.txt); give each band its ISO date YYYY-MM-DD")
-    lines = [ln.strip() for ln in side.read_text(encoding="utf-8").splitlines()
-             if ln.strip() and not ln.strip().startswith("#")]
-    if len(lines) != n:
-        raise InputError(f"{side.name} lists {len(lines)} dates but {path.name} has {n} bands; "
-                         "write one ISO date per band")
-    return lines
-
-
-def _parse_dates(texts, calendar: str, where: str) -> np.ndarray:
-    out = []
-    for t in texts:
-        m = _ISO_DATE.match(t or "")
-        try:
-            if m is None:
-                raise ValueError("not an ISO date")
-            y, mo, d = (int(g) for g in m.groups())
-            if calendar in ("standard", "proleptic_gregorian"):
-                out.append(np.datetime64(_dt.date(y, mo, d), "ns"))
-            else:
-                out.append(_CFTIME_TYPES[calendar](y, mo, d))
-        except ValueError as exc:
-            raise InputError(f"{where}: date '{t}' is not a valid YYYY-MM-DD day in the "
-                             f"{calendar} calendar ({exc}); fix the band dates") from exc
-    return np.array(out, dtype="datetime64[ns]" if calendar in ("standard", "proleptic_gregorian") else object)
-
-
-def _open_geotiff(path: Path, cy, cx) -> dict:
-    try:
-        with rasterio.open(path) as src:
-            n, descriptions, band_units = src.count, src.descriptions, src.units
-            ds_tags = {k.lower(): v for k, v in src.tags().items()}
-            band_tags = [src.tags(i) for i in range(1, n + 1)]
-            crs = src.crs
-    except rasterio.errors.RasterioIOError as exc:
-        raise InputError(f"cannot read {path} as GeoTIFF ({exc}); check the file") from exc
-    where = f"{path.name} (GeoTIFF)"
-    units = ds_tags.get("units")
-    for shared in ({next((v for k, v in t.items() if k.lower() == "units"), None) for t in band_tags},
-                   set(band_units)):
-        units = units or (shared.pop() if len(shared) == 1 else None)
-    _canonical_units(units, where)
-    calendar = _canonical_calendar(ds_tags.get("calendar"), where)
-    times = _parse_dates(_geotiff_dates(path, n, descriptions, band_tags), calendar, where)
-    da = rioxarray.open_rasterio(path, chunks={"band": -1, "y": cy, "x": cx}, mask_and_scale=True)
-    da = da.rename(band="time").assign_coords(time=times)
-    return dict(da=da, dims=("time", "y", "x"), crs=crs, geo_names=False, path=path,
-                variable="bands", units=units, where=where, calendar=calendar)
 
 
 # --------------------------------------------------------------------------- normalise
@@ -456,7 +393,7 @@ def open_climate(paths, role: str, *, variable: str | None = None, chunks: dict 
         if suffix not in NETCDF_SUFFIXES + GEOTIFF_SUFFIXES:
             raise InputError(f"{path.name}: unknown file type '{suffix}'; use NetCDF (.nc) or GeoTIFF (.tif)")
         p = (_open_netcdf(path, role, variable, cy, cx, file_chunks) if suffix in NETCDF_SUFFIXES
-             else _open_geotiff(path, cy, cx))
+             else _open_geotiff(path, cy, cx))  # noqa: F821 (imported at the end of this module)
         p["da"], p["crs"] = _normalise(p)
         pieces.append(p)
     p0, crs = pieces[0], pieces[0]["crs"]
@@ -564,4 +501,5 @@ def select_years(da: xr.DataArray, first: int, last: int, *, label: str) -> xr.D
     return da.isel(time=slice(int(idx[0]), int(idx[-1]) + 1))
 
 
+from suitmap.climate_geotiff import _open_geotiff  # noqa: E402
 from suitmap.climate_qa import ClimateQA, qa_summary, repair_tmin_tmax  # noqa: E402,F401

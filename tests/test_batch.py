@@ -5,7 +5,6 @@ from __future__ import annotations
 import textwrap
 
 import numpy as np
-import pytest
 import xarray as xr
 
 import suitmap
@@ -17,7 +16,7 @@ OFFSETS = {"alpha": 1.0, "beta": 2.0, "gamma": 3.0}  # invented models, °C warm
 
 def batch(tmp_path, calendars=None, grids=None):
     tmin, tmax = make_tmin_tmax(730, 4, 5, seed=21)
-    prof = write_profile(tmp_path, ddg=250.0)
+    write_profile(tmp_path, ddg=250.0)
     write_period(tmp_path / "obs", "obs", tmin, tmax, start="2001-01-01")
     (tmp_path / "cm").mkdir()
     for model, dt in OFFSETS.items():

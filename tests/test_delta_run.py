@@ -11,7 +11,7 @@ from conftest import write_period, write_profile
 
 def test_uniform_model_change_equals_warming_the_baseline(tmp_path):
     tmin, tmax = make_tmin_tmax(730, 4, 5, seed=8)
-    prof = write_profile(tmp_path, ddg=250.0)
+    write_profile(tmp_path, ddg=250.0)
     write_period(tmp_path / "obs", "obs", tmin, tmax, start="2001-01-01")
     # a reference scenario: the observed days warmed by exactly 2 degrees
     write_period(tmp_path / "ref", "ref", tmin + 2.0, tmax + 2.0, start="2001-01-01")
