@@ -40,15 +40,16 @@ TARGET = 50.0                  # Mcell-days/s for single_sine, horizontal
 REPEATS = 3
 
 
-def synthetic_grid(seed: int = 20240101) -> tuple[np.ndarray, np.ndarray]:
+def synthetic_grid(seed: int = 20240101, shape: tuple[int, int, int] = SHAPE
+                   ) -> tuple[np.ndarray, np.ndarray]:
     """Seasonal cycle + north-south gradient + weather noise; 10 % NaN cells."""
     rng = np.random.default_rng(seed)
-    nt, ny, nx = SHAPE
+    nt, ny, nx = shape
     day = np.arange(nt, dtype=np.float64)[:, None, None]
     lat = np.linspace(0.0, 1.0, ny)[None, :, None]
     mean = 24.0 - 16.0 * lat - (8.0 + 6.0 * lat) * np.cos(2 * np.pi * (day - 15) / 365)
-    tmin = (mean - 6.0 + rng.normal(0.0, 3.0, SHAPE)).astype(np.float32)
-    tmax = (tmin + rng.gamma(4.0, 3.0, SHAPE)).astype(np.float32)
+    tmin = (mean - 6.0 + rng.normal(0.0, 3.0, shape)).astype(np.float32)
+    tmax = (tmin + rng.gamma(4.0, 3.0, shape)).astype(np.float32)
     sea = rng.random((ny, nx)) < 0.10
     tmin[:, sea] = np.nan
     tmax[:, sea] = np.nan

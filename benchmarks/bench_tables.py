@@ -38,6 +38,7 @@ import argparse
 import os
 import sys
 import time
+from pathlib import Path
 
 import numba
 import numpy as np
@@ -47,6 +48,9 @@ from suitmap.kernels.degree_days import CUTOFFS, METHODS, degree_days_block  # n
 from suitmap.kernels.development import daily_development  # noqa: E402
 from suitmap.kernels.diurnal import daylength  # noqa: E402
 from suitmap.kernels.tables import degree_day_table, development_table  # noqa: E402
+
+sys.path.insert(0, str(Path(__file__).resolve().parent))
+from bench_kernels import synthetic_grid as _kernel_grid  # noqa: E402  (same synthetic grid)
 
 LOWER, UPPER = 10.0, 30.0
 TARGET = 400.0                      # Mcell-days/s
@@ -65,18 +69,10 @@ CURVES = {   # as in tests/test_rates.py (sources there)
 
 
 def synthetic_grid(shape: tuple[int, int, int], seed: int = 20240101):
-    """Seasonal cycle + north-south gradient + weather noise; 10 % NaN cells;
-    latitudes 30-60 N for the daylength."""
-    rng = np.random.default_rng(seed)
-    nt, ny, nx = shape
-    day = np.arange(nt, dtype=np.float64)[:, None, None]
-    lat = np.linspace(0.0, 1.0, ny)[None, :, None]
-    mean = 24.0 - 16.0 * lat - (8.0 + 6.0 * lat) * np.cos(2 * np.pi * (day - 15) / 365)
-    tmin = (mean - 6.0 + rng.normal(0.0, 3.0, shape)).astype(np.float32)
-    tmax = (tmin + rng.gamma(4.0, 3.0, shape)).astype(np.float32)
-    sea = rng.random((ny, nx)) < 0.10
-    tmin[:, sea] = np.nan
-    tmax[:, sea] = np.nan
+    """The degree-day benchmark's grid (bench_kernels.synthetic_grid) plus a daylength
+    for latitudes 30-60 N."""
+    nt, ny, _ = shape
+    tmin, tmax = _kernel_grid(seed, shape)
     dl = daylength(np.linspace(30.0, 60.0, ny)[None, :], np.arange(1, nt + 1)[:, None])
     dl = np.ascontiguousarray(np.broadcast_to(dl[:, :, None], shape), dtype=np.float32)
     return tmin, tmax, dl
