@@ -23,7 +23,7 @@ from .errors import InputError
 from .kernels.degree_days import degree_days_block
 from .kernels.development import daily_development as _dev_kernel
 from .kernels.diurnal import daylength as _daylength
-from .kernels.season import season_reduce
+from .kernels.season import season_degree_days, season_reduce
 from .metadata import LIMITING_FACTOR_CLASSES, MISSING_CLASS, layer_attrs
 from .profile import Profile
 from .seasons import (NORTH_DEFAULT, SOUTH_DEFAULT, SeasonWindow, complete_seasons,
@@ -75,8 +75,12 @@ def _season_block(tmin: np.ndarray, tmax: np.ndarray, lat: np.ndarray, *,
 
     Days with Tmin > Tmax are swapped here (the smaller value is the minimum).
     """
-    tmin, tmax = np.minimum(tmin, tmax), np.maximum(tmin, tmax)  # contiguous copies
     ny, nx, nt = tmin.shape
+    if curve is None:
+        # degree-days only: one pass over the block in its own (time-major) order
+        tmin_t, tmax_t = np.moveaxis(tmin, -1, 0), np.moveaxis(tmax, -1, 0)
+    else:
+        tmin, tmax = np.minimum(tmin, tmax), np.maximum(tmin, tmax)  # contiguous copies
     if slices_north is None:
         slices_north = [None] * len(slices_south)
     nseason = len(slices_north)
@@ -93,6 +97,13 @@ def _season_block(tmin: np.ndarray, tmax: np.ndarray, lat: np.ndarray, *,
             if sl is None:
                 continue
             i0, i1 = sl
+            if curve is None:
+                total, first, cold, heat, mean_tmax = season_degree_days(
+                    tmin_t, tmax_t, i0, i1, lower, upper, method, cutoff, dd_per_gen,
+                    lethal_cold, lethal_heat)
+                stats = np.stack([total, total / dd_per_gen, first, cold, heat, mean_tmax], axis=-1)
+                out[cells, :, k] = stats[cells]
+                continue
             tn = np.ascontiguousarray(tmin[..., i0:i1])
             tx = np.ascontiguousarray(tmax[..., i0:i1])
             nxt = np.empty_like(tn)
@@ -100,15 +111,10 @@ def _season_block(tmin: np.ndarray, tmax: np.ndarray, lat: np.ndarray, *,
             nxt[..., -1] = tmin[..., i1] if i1 < nt else tn[..., -1]
             # dask already runs blocks in parallel threads: the kernel runs serially here
             dd = degree_days_block(tn, tx, nxt, lower, upper, method, cutoff, parallel=False)
-            if curve is None:
-                total, first, cold, heat, mean_tmax = season_reduce(
-                    dd, tn, tx, dd_per_gen, lethal_cold, lethal_heat)
-                development = total / dd_per_gen
-            else:
-                daily = _daily_development(tn, tx, nxt, lat, doy[i0:i1], curve, table)
-                development, first, cold, heat, mean_tmax = season_reduce(
-                    daily, tn, tx, 1.0, lethal_cold, lethal_heat)
-                total = dd.sum(axis=-1)
+            daily = _daily_development(tn, tx, nxt, lat, doy[i0:i1], curve, table)
+            development, first, cold, heat, mean_tmax = season_reduce(
+                daily, tn, tx, 1.0, lethal_cold, lethal_heat)
+            total = dd.sum(axis=-1)
             stats = np.stack([total, development, first, cold, heat, mean_tmax], axis=-1)
             stats[np.isnan(total) | np.isnan(development)] = np.nan
             out[cells, :, k] = stats[cells]

@@ -9,6 +9,8 @@ from __future__ import annotations
 import numba
 import numpy as np
 
+from .degree_days import CUTOFFS, METHODS, _check_code, _fill_range, _thresholds
+
 
 @numba.njit(cache=True, nogil=True)  # nogil: dask threads run blocks at once
 def _reduce(daily, tn, tx, threshold, lethal_cold, lethal_heat, total, first, cold, heat, mtx):
@@ -67,3 +69,120 @@ def season_reduce(daily: np.ndarray, tmin: np.ndarray, tmax: np.ndarray, thresho
     _reduce(np.ascontiguousarray(daily, dtype=np.float64), np.ascontiguousarray(tmin),
             np.ascontiguousarray(tmax), float(threshold), lc, lh, *out)
     return tuple(out)
+
+
+# ------------------------------------------------ time-major stream (degree-days)
+@numba.njit(cache=True, nogil=True, error_model="numpy")
+def _stream(tmin, tmax, i0, i1, lower, upper, method, cutoff, threshold, lethal_cold,
+            lethal_heat, total, first, cold, heat, mtx):
+    """Days i0..i1-1 of (day, cell) arrays, one day's row at a time.
+
+    Each row is swapped (Tmin > Tmax), turned into degree-days by the
+    vectorised loop of ``degree_days._fill_range`` and folded into the
+    per-cell running figures, so nothing of the size of the block is
+    allocated and the block is read once, in its own memory order.
+    """
+    nt, nc = tmin.shape
+    lo = np.empty(nc, tmin.dtype)
+    hi = np.empty(nc, tmin.dtype)
+    lo_next = np.empty(nc, tmin.dtype)
+    hi_next = np.empty(nc, tmin.dtype)
+    dd = np.empty(nc, np.float64)
+    bad = np.zeros(nc, np.bool_)
+    for j in range(nc):
+        total[j] = 0.0
+        first[j] = np.nan
+        cold[j] = 0.0
+        heat[j] = 0.0
+        mtx[j] = 0.0
+        a, b = tmin[i0, j], tmax[i0, j]
+        lo_next[j] = b if b < a else a
+        hi_next[j] = a if b < a else b
+    for t in range(i0, i1):
+        lo, lo_next = lo_next, lo
+        hi, hi_next = hi_next, hi
+        if t + 1 < nt:                   # the next day's minimum, swapped too
+            for j in range(nc):
+                a, b = tmin[t + 1, j], tmax[t + 1, j]
+                lo_next[j] = b if b < a else a
+                hi_next[j] = a if b < a else b
+        else:                            # the last day of the data: its own minimum
+            lo_next[:] = lo
+            hi_next[:] = hi
+        _fill_range(lo, hi, lo_next, dd, 0, nc, lower, upper, method, cutoff)
+        day = t - i0 + 1.0
+        for j in range(nc):
+            x, y, v = lo[j], hi[j], dd[j]
+            bad[j] |= (x != x) | (y != y) | (v != v)
+            acc = total[j] + v
+            total[j] = acc
+            if first[j] != first[j] and acc >= threshold:
+                first[j] = day
+            cold[j] += 1.0 if x <= lethal_cold else 0.0
+            heat[j] += 1.0 if y >= lethal_heat else 0.0
+            mtx[j] += y
+    n = i1 - i0
+    for j in range(nc):
+        if bad[j]:
+            total[j] = np.nan
+            first[j] = np.nan
+            cold[j] = np.nan
+            heat[j] = np.nan
+            mtx[j] = np.nan
+        else:
+            mtx[j] = mtx[j] / n
+
+
+def season_degree_days(tmin: np.ndarray, tmax: np.ndarray, start: int, stop: int,
+                       lower: float, upper: float, method: int | str, cutoff: int | str,
+                       dd_per_generation: float, lethal_cold: float | None,
+                       lethal_heat: float | None):
+    """Season figures straight from (day, ...) Tmin/Tmax, without daily arrays.
+
+    The same figures as ``degree_days_block`` followed by ``season_reduce``
+    on the swapped days ``start..stop-1`` (the day after ``stop - 1``, when
+    there is one, gives the last day's next minimum), in one pass over the
+    arrays in their own (day-major) order.
+
+    Parameters
+    ----------
+    tmin, tmax : numpy.ndarray
+        Same shape ``(day, ...)``, float32 or float64; days with Tmin > Tmax
+        are swapped.
+    start, stop : int
+        The season's days along axis 0.
+    lower, upper, method, cutoff
+        As in :func:`suitmap.kernels.degree_days.degree_days_block`.
+    dd_per_generation : float
+        Degree-days of one generation (the ``first_day`` threshold).
+    lethal_cold, lethal_heat : float or None
+        Day counts of ``tmin <= lethal_cold`` and ``tmax >= lethal_heat``.
+
+    Returns
+    -------
+    tuple of numpy.ndarray
+        ``(total, first_day, cold_days, heat_days, mean_tmax)``, each of shape
+        ``tmin.shape[1:]``, float64; NaN in every figure where any day used
+        (including the next minimum) is NaN.
+
+    References
+    ----------
+    See :mod:`suitmap.kernels.degree_days` (Baskerville & Emin 1969; Zalom et
+    al. 1983).
+    """
+    m = _check_code(method, METHODS, "degree-day method")
+    c = _check_code(cutoff, CUTOFFS, "cutoff")
+    lower, upper = _thresholds(lower, upper)
+    if tmin.shape != tmax.shape or not 0 <= start < stop <= tmin.shape[0]:
+        raise ValueError(f"tmin {tmin.shape}/tmax {tmax.shape} must match and hold days "
+                         f"{start}..{stop - 1}")
+    dtype = np.float32 if tmin.dtype == tmax.dtype == np.float32 else np.float64
+    shape = tmin.shape[1:]
+    a = np.ascontiguousarray(tmin, dtype=dtype).reshape(tmin.shape[0], -1)
+    b = np.ascontiguousarray(tmax, dtype=dtype).reshape(tmax.shape[0], -1)
+    out = [np.empty(a.shape[1]) for _ in range(5)]
+    lc = -np.inf if lethal_cold is None else float(lethal_cold)
+    lh = np.inf if lethal_heat is None else float(lethal_heat)
+    _stream(a, b, int(start), int(stop), lower, upper, m, c, float(dd_per_generation),
+            lc, lh, *out)
+    return tuple(o.reshape(shape) for o in out)
