@@ -396,6 +396,7 @@ def measure(mode: str, work: Path, variant: str | None, rss_limit: float) -> dic
         watcher.join()
         proc.returncode = os.waitstatus_to_exitcode(status)
     result = {"mode": mode, "variant": variant, "wall_s": wall, "rc": proc.returncode,
+              "cpu_s": usage.ru_utime + usage.ru_stime,  # less sensitive to other load than wall
               "peak_rss": usage.ru_maxrss * 1024,      # Linux: kilobytes
               "sampled_rss": sampled["peak"], "killed": sampled["killed"]}
     for line in log_out.read_text().splitlines():
@@ -426,7 +427,7 @@ def _row(r: dict) -> str:
           "run": f"open {g('open_s', np.nan):.1f}, compute {g('compute_s', np.nan):.1f}, "
                  f"cache {g('cache_s', 0):.1f}, write {g('write_s', np.nan):.1f}"}[r["mode"]]
     flag = " KILLED (RSS limit)" if r["killed"] else (f" FAILED: {r['error']}" if r.get("error") else "")
-    return (f"{r['mode']:<5} {r['variant'] or 'as is':<38} {r['wall_s']:6.1f}  {ph:<45} "
+    return (f"{r['mode']:<5} {r['variant'] or 'as is':<30} {r['wall_s']:6.1f} {r['cpu_s']:6.1f}  {ph:<45} "
             f"{r['peak_rss'] / 1e9:5.2f} / {r['sampled_rss'] / 1e9:5.2f}{flag}")
 
 
@@ -443,6 +444,8 @@ def summary(name: str, read: dict, run: dict, cell_days: int, diff: float | None
     print(f"  end to end (suitmap.run)                       {e2e:7.1f} s   {cell_days / e2e / 1e6:.1f} Mcell-days/s")
     print(f"  ratio end-to-end / read                        {e2e / one_pass:7.2f}     target <= {TARGET_RATIO}: "
           f"{'met' if ok_ratio else 'MISSED'}")
+    print(f"  cpu seconds end-to-end / read                  {run.get('cpu_s', np.nan) / read.get('cpu_s', np.nan):7.2f}"
+          f"     ({run.get('cpu_s', np.nan):.1f} / {read.get('cpu_s', np.nan):.1f} s; the wall ratio needs both cores busy)")
     print(f"  peak RSS read only / end to end                {read['peak_rss'] / 1e9:5.2f} / "
           f"{run['peak_rss'] / 1e9:.2f} GB"
           f"   target <= {TARGET_RSS / 1e9:.1f} GB end to end: {'met' if ok_rss else 'MISSED'}")
@@ -513,7 +516,7 @@ def main(argv=None) -> int:
             elif r["rc"] == 0 and ref.is_file():
                 r["diff"] = _max_diff(_layers(ref), _layers(out))
         print(f"load average after: {load()}")
-        print(f"\nchild config                                 wall s  phases in the child (s){' ' * 22}"
+        print(f"\nchild config                         wall s  cpu s  phases in the child (s){' ' * 22}"
               "peak RSS GB (wait4 / sampled)")
         for r in res.values():
             print(_row(r))

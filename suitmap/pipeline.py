@@ -23,6 +23,7 @@ from .layers import compute_layers, season_windows
 from .profile import Profile, load_profile
 from .resume import period_key
 from .runfile import Period, RunFile, load_run
+from .scheduling import threads
 
 #: Target size (bytes) of one spatial chunk of one daily variable in float32.
 CHUNK_BYTES = 32 * 2**20
@@ -209,9 +210,9 @@ class RunLayers:
             from tqdm.dask import TqdmCallback
 
             with TqdmCallback(desc="computing layers", leave=False):
-                done = dask.compute(*items)
+                done = dask.compute(*items, num_workers=threads(self.run.threads))
         else:
-            done = dask.compute(*items)
+            done = dask.compute(*items, num_workers=threads(self.run.threads))
         n_p, n_c = len(names_p), len(names_c)
         periods = {n: finish_period(d) for n, d in zip(names_p, done[:n_p])}
         comps = dict(zip(names_c, done[n_p:n_p + n_c]))
@@ -386,6 +387,8 @@ def run(run: RunFile | str | Path, *, overwrite: bool = False, progress: bool = 
     pathlib.Path
         The ``manifest.json`` of the written outputs.
     """
+    import dask
+
     from .outputs import write_outputs
     from .resume import OutputFolder
     from .scheduling import scheduler
@@ -395,7 +398,7 @@ def run(run: RunFile | str | Path, *, overwrite: bool = False, progress: bool = 
     folder.check()
     lazy = compute_run(run)
     periods: dict[str, xr.Dataset] = {}
-    with folder:
+    with folder, dask.config.set(num_workers=threads(run.threads)):
         with scheduler(workers, scheduler_address) as client:
             n = len(lazy.periods)
             for i, (name, ds) in enumerate(lazy.periods.items(), 1):

@@ -69,6 +69,7 @@ class RunFile:
     monthly_route: str = "interpolate"
     daily_sd: float | None = None
     fast_tables: bool = True
+    threads: int | None = None
     raw: dict[str, Any] = field(default_factory=dict, compare=False, repr=False)
 
     @property
@@ -276,7 +277,8 @@ def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
     compute = raw.get("compute", {})
     if not isinstance(compute, dict):
         raise RunFileError(f"{where}: [compute] must be a table")
-    _keys(compute, ("chunk_cells", "monthly_route", "daily_sd", "fast_tables"), where, "compute")
+    _keys(compute, ("chunk_cells", "monthly_route", "daily_sd", "fast_tables", "threads"), where,
+          "compute")
     fast = compute.get("fast_tables", True)
     if not isinstance(fast, bool):
         raise RunFileError(f"{where}: compute.fast_tables must be true or false")
@@ -289,10 +291,15 @@ def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
     chunk = compute.get("chunk_cells")
     if chunk is not None and (isinstance(chunk, bool) or not isinstance(chunk, int) or chunk < 1):
         raise RunFileError(f"{where}: compute.chunk_cells must be a positive whole number")
+    threads = compute.get("threads")
+    if threads is not None and (isinstance(threads, bool) or not isinstance(threads, int)
+                                or threads < 1):
+        raise RunFileError(f"{where}: compute.threads must be a positive whole number")
 
     return RunFile(path=path, profile_path=Path(_resolve(base, prof["path"])), baseline=baseline,
                    scenarios=scenarios, output=output, chunk_cells=chunk, monthly_route=route,
-                   daily_sd=None if sd is None else float(sd), fast_tables=fast, raw=raw)
+                   daily_sd=None if sd is None else float(sd), fast_tables=fast,
+                   threads=threads, raw=raw)
 
 
 def load_run(path: str | Path) -> RunFile:

@@ -4,6 +4,7 @@ dask.distributed cluster (``--workers N``) or an existing one (``--scheduler ADD
 from __future__ import annotations
 
 import contextlib
+import os
 from typing import Iterator
 
 from .errors import InputError
@@ -43,3 +44,20 @@ def scheduler(workers: int | None = None, address: str | None = None) -> Iterato
     with LocalCluster(n_workers=workers, threads_per_worker=1, processes=True,
                       dashboard_address=None, silence_logs=40) as cluster, Client(cluster) as client:
         yield client
+
+
+EXTRA_THREADS = 1
+"""Threads beyond the core count in the threaded scheduler (see :func:`threads`)."""
+
+
+def threads(requested: int | None = None) -> int:
+    """Threads for dask's threaded scheduler: ``requested``, else cores + ``EXTRA_THREADS``.
+
+    NetCDF-4/HDF5 reads run one at a time behind a library-wide lock; a thread
+    waiting on that lock leaves its core idle, so one thread more than there
+    are cores keeps both the reader and the kernels busy (measured in
+    ``benchmarks/bench_scale.py``; see DEVELOPERS.md, "Chunks and threads").
+    """
+    if requested is not None:
+        return int(requested)
+    return (os.cpu_count() or 1) + EXTRA_THREADS

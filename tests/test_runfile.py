@@ -44,6 +44,16 @@ def test_good_run_file_resolves_relative_paths(tmp_path):
     assert run.output.dir == tmp_path / "out"
     assert run.output.formats == ("geotiff",)
     assert [p.name for p in run.periods] == ["baseline", "m-a_mid"]
+    assert run.threads is None
+    assert load_run(write(tmp_path, GOOD + "[compute]\nthreads = 3\n")).threads == 3
+
+
+def test_threaded_scheduler_threads():
+    import os
+
+    from suitmap.scheduling import EXTRA_THREADS, threads
+    assert threads(5) == 5
+    assert threads() == (os.cpu_count() or 1) + EXTRA_THREADS
 
 
 @pytest.mark.parametrize("old, new, key", [
@@ -55,6 +65,8 @@ def test_good_run_file_resolves_relative_paths(tmp_path):
     ('name = "m-a_mid"', 'name = "baseline"', "unique"),
     ('tmax = "climate/a_tmax_*.nc"', "", "tmax"),
     ('path = "profiles/p.toml"', "", "[profile]"),
+    ('formats = ["geotiff"]', 'formats = ["geotiff"]\n[compute]\nthreads = 0', "compute.threads"),
+    ('formats = ["geotiff"]', 'formats = ["geotiff"]\n[compute]\nthreads = 2.5', "compute.threads"),
 ])
 def test_bad_run_files_name_the_key(tmp_path, old, new, key):
     assert old in GOOD
