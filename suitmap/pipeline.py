@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import math
 import warnings
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 
 import numpy as np
@@ -154,13 +154,21 @@ def _swap_lazily(tmin: xr.DataArray, tmax: xr.DataArray):
     return tmin, tmax, xr.DataArray((tmin > tmax).sum().data)
 
 
+def effective_profile(run: RunFile) -> Profile:
+    """The run's profile, with the run file's ``[compute] diurnal`` applied if given."""
+    profile = load_profile(run.profile_path)
+    if run.diurnal is not None and run.diurnal != profile.development.diurnal:
+        profile = replace(profile, development=replace(profile.development, diurnal=run.diurnal))
+    return profile
+
+
 def check_run(run: RunFile | str | Path) -> tuple[RunFile, Profile, list[PeriodClimate]]:
     """Read every input a run file names and summarise it, computing no layers.
 
     Raises a :class:`~suitmap.errors.SuitmapError` on the first unusable input.
     """
     run = _as_run(run)
-    profile = load_profile(run.profile_path)
+    profile = effective_profile(run)
     opened = []
     for period in run.periods:
         pc = open_period(period, profile, chunk_cells=run.chunk_cells, qa=True)
@@ -227,7 +235,7 @@ def comparison_name(scenario: str, baseline: str) -> str:
 def compute_run(run: RunFile | str | Path) -> RunLayers:
     """Lazy layers of every period and comparison of a run file."""
     run = _as_run(run)
-    profile = load_profile(run.profile_path)
+    profile = effective_profile(run)
     periods: dict[str, xr.Dataset] = {}
     inputs: dict[str, dict[str, list[str]]] = {}
     keys: dict[str, str] = {}

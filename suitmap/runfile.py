@@ -70,6 +70,7 @@ class RunFile:
     daily_sd: float | None = None
     fast_tables: bool = True
     threads: int | None = None
+    diurnal: str | None = None    # overrides the profile's development.diurnal
     raw: dict[str, Any] = field(default_factory=dict, compare=False, repr=False)
 
     @property
@@ -277,8 +278,8 @@ def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
     compute = raw.get("compute", {})
     if not isinstance(compute, dict):
         raise RunFileError(f"{where}: [compute] must be a table")
-    _keys(compute, ("chunk_cells", "monthly_route", "daily_sd", "fast_tables", "threads"), where,
-          "compute")
+    _keys(compute, ("chunk_cells", "monthly_route", "daily_sd", "fast_tables", "threads",
+                    "diurnal"), where, "compute")
     fast = compute.get("fast_tables", True)
     if not isinstance(fast, bool):
         raise RunFileError(f"{where}: compute.fast_tables must be true or false")
@@ -291,6 +292,10 @@ def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
     chunk = compute.get("chunk_cells")
     if chunk is not None and (isinstance(chunk, bool) or not isinstance(chunk, int) or chunk < 1):
         raise RunFileError(f"{where}: compute.chunk_cells must be a positive whole number")
+    diurnal = compute.get("diurnal")
+    if diurnal is not None and diurnal not in ("sine", "parton_logan"):
+        raise RunFileError(f"{where}: compute.diurnal must be \"sine\" or \"parton_logan\", "
+                           f"got {diurnal!r}")
     threads = compute.get("threads")
     if threads is not None and (isinstance(threads, bool) or not isinstance(threads, int)
                                 or threads < 1):
@@ -299,7 +304,7 @@ def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
     return RunFile(path=path, profile_path=Path(_resolve(base, prof["path"])), baseline=baseline,
                    scenarios=scenarios, output=output, chunk_cells=chunk, monthly_route=route,
                    daily_sd=None if sd is None else float(sd), fast_tables=fast,
-                   threads=threads, raw=raw)
+                   threads=threads, diurnal=diurnal, raw=raw)
 
 
 def load_run(path: str | Path) -> RunFile:

@@ -44,7 +44,9 @@ def test_good_run_file_resolves_relative_paths(tmp_path):
     assert run.output.dir == tmp_path / "out"
     assert run.output.formats == ("geotiff",)
     assert [p.name for p in run.periods] == ["baseline", "m-a_mid"]
-    assert run.threads is None
+    assert run.threads is None and run.diurnal is None
+    assert load_run(write(tmp_path, GOOD + '[compute]\ndiurnal = "parton_logan"\n')).diurnal \
+        == "parton_logan"
     assert load_run(write(tmp_path, GOOD + "[compute]\nthreads = 3\n")).threads == 3
 
 
@@ -67,6 +69,7 @@ def test_threaded_scheduler_threads():
     ('path = "profiles/p.toml"', "", "[profile]"),
     ('formats = ["geotiff"]', 'formats = ["geotiff"]\n[compute]\nthreads = 0', "compute.threads"),
     ('formats = ["geotiff"]', 'formats = ["geotiff"]\n[compute]\nthreads = 2.5', "compute.threads"),
+    ('formats = ["geotiff"]', 'formats = ["geotiff"]\n[compute]\ndiurnal = "cosine"', "compute.diurnal"),
 ])
 def test_bad_run_files_name_the_key(tmp_path, old, new, key):
     assert old in GOOD
