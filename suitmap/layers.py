@@ -20,7 +20,6 @@ import numpy as np
 import xarray as xr
 
 from .errors import InputError
-from .kernels.degree_days import degree_days_block
 from .kernels.development import daily_development as _dev_kernel
 from .kernels.diurnal import daylength as _daylength
 from .kernels.season import season_degree_days, season_reduce
@@ -70,16 +69,17 @@ def _daily_development(tn, tx, nxt, lat, doy, curve, table=None):
 
 def _season_block(tmin: np.ndarray, tmax: np.ndarray, lat: np.ndarray, *,
                   slices_north, slices_south, per_hemisphere, doy, lower, upper, method, cutoff,
-                  dd_per_gen, curve, lethal_cold, lethal_heat, table=None) -> np.ndarray:
+                  dd_per_gen, curve, lethal_cold, lethal_heat, table=None,
+                  dd_diurnal="sine") -> np.ndarray:
     """Season statistics of one block; arrays arrive as (y, x, time).
 
     Days with Tmin > Tmax are swapped here (the smaller value is the minimum).
+    Degree-days come from one pass over the block in its own (time-major)
+    order; rate summation (``curve``) also needs contiguous per-cell copies.
     """
     ny, nx, nt = tmin.shape
-    if curve is None:
-        # degree-days only: one pass over the block in its own (time-major) order
-        tmin_t, tmax_t = np.moveaxis(tmin, -1, 0), np.moveaxis(tmax, -1, 0)
-    else:
+    tmin_t, tmax_t = np.moveaxis(tmin, -1, 0), np.moveaxis(tmax, -1, 0)
+    if curve is not None:
         tmin, tmax = np.minimum(tmin, tmax), np.maximum(tmin, tmax)  # contiguous copies
     if slices_north is None:
         slices_north = [None] * len(slices_south)
@@ -97,10 +97,11 @@ def _season_block(tmin: np.ndarray, tmax: np.ndarray, lat: np.ndarray, *,
             if sl is None:
                 continue
             i0, i1 = sl
+            day_kw = ({"latitude": lat, "doy": doy} if dd_diurnal == "parton_logan" else {})
+            total, first, cold, heat, mean_tmax = season_degree_days(
+                tmin_t, tmax_t, i0, i1, lower, upper, method, cutoff, dd_per_gen or 1.0,
+                lethal_cold, lethal_heat, **day_kw)
             if curve is None:
-                total, first, cold, heat, mean_tmax = season_degree_days(
-                    tmin_t, tmax_t, i0, i1, lower, upper, method, cutoff, dd_per_gen,
-                    lethal_cold, lethal_heat)
                 stats = np.stack([total, total / dd_per_gen, first, cold, heat, mean_tmax], axis=-1)
                 out[cells, :, k] = stats[cells]
                 continue
@@ -109,12 +110,9 @@ def _season_block(tmin: np.ndarray, tmax: np.ndarray, lat: np.ndarray, *,
             nxt = np.empty_like(tn)
             nxt[..., :-1] = tn[..., 1:]
             nxt[..., -1] = tmin[..., i1] if i1 < nt else tn[..., -1]
-            # dask already runs blocks in parallel threads: the kernel runs serially here
-            dd = degree_days_block(tn, tx, nxt, lower, upper, method, cutoff, parallel=False)
             daily = _daily_development(tn, tx, nxt, lat, doy[i0:i1], curve, table)
             development, first, cold, heat, mean_tmax = season_reduce(
                 daily, tn, tx, 1.0, lethal_cold, lethal_heat)
-            total = dd.sum(axis=-1)
             stats = np.stack([total, development, first, cold, heat, mean_tmax], axis=-1)
             stats[np.isnan(total) | np.isnan(development)] = np.nan
             out[cells, :, k] = stats[cells]
@@ -170,6 +168,7 @@ def season_statistics(tmin: xr.DataArray, tmax: xr.DataArray, profile: Profile,
     common = dict(per_hemisphere=per_hemisphere, lower=dev.lower_threshold,
                   upper=dev.upper_threshold, method=dev.method, cutoff=dev.cutoff,
                   dd_per_gen=dev.degree_days_per_generation, curve=curve, table=table,
+                  dd_diurnal=dev.diurnal,
                   lethal_cold=surv.lethal_cold, lethal_heat=surv.lethal_heat)
     # one small computation per season-year: each task holds one season of one spatial
     # chunk (plus the next day, for the double methods), so memory does not grow with the
@@ -287,6 +286,11 @@ def period_layers(stats: xr.Dataset, profile: Profile) -> xr.Dataset:
     how = ("degree-days / degree_days_per_generation" if rc is None else
            f"rate summation: {rc.model} development rate integrated over a {dev.diurnal} day")
     ds.attrs["generations_from"] = how
+    ds.attrs["degree_days_from"] = (
+        f"Parton-Logan day (Parton & Logan 1981; daylength after Forsythe et al. 1995), "
+        f"{dev.cutoff} cutoff; the {dev.method} method's own day curve is not used"
+        if dev.diurnal == "parton_logan" else f"{dev.method} method, {dev.cutoff} cutoff")
+    ds["degree_days"].attrs["comment"] = f"daily degree-days from the {ds.attrs['degree_days_from']}"
     for name in ("generations", "complete_generations", "first_generation_day",
                  "years_with_generation"):
         ds[name].attrs["comment"] = f"generations from {how}"

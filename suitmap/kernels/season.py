@@ -10,6 +10,9 @@ import numba
 import numpy as np
 
 from .degree_days import CUTOFFS, METHODS, _check_code, _fill_range, _thresholds
+from .degree_days_diurnal import _coefficients
+from .diurnal import daylength
+from .degree_days_diurnal import _fill_range as _pl_fill_range
 
 
 @numba.njit(cache=True, nogil=True)  # nogil: dask threads run blocks at once
@@ -74,13 +77,16 @@ def season_reduce(daily: np.ndarray, tmin: np.ndarray, tmax: np.ndarray, thresho
 # ------------------------------------------------ time-major stream (degree-days)
 @numba.njit(cache=True, nogil=True, error_model="numpy")
 def _stream(tmin, tmax, i0, i1, lower, upper, method, cutoff, threshold, lethal_cold,
-            lethal_heat, total, first, cold, heat, mtx):
+            lethal_heat, dl_rows, cell_row, pl, total, first, cold, heat, mtx):
     """Days i0..i1-1 of (day, cell) arrays, one day's row at a time.
 
     Each row is swapped (Tmin > Tmax), turned into degree-days by the
     vectorised loop of ``degree_days._fill_range`` and folded into the
     per-cell running figures, so nothing of the size of the block is
-    allocated and the block is read once, in its own memory order.
+    allocated and the block is read once, in its own memory order.  With a
+    non-empty ``dl_rows`` (daylength, hours, of each distinct latitude
+    ``cell_row[j]`` on each day) the day is Parton & Logan's with
+    coefficients ``pl`` = (a, b, c) instead of the method's.
     """
     nt, nc = tmin.shape
     lo = np.empty(nc, tmin.dtype)
@@ -88,6 +94,8 @@ def _stream(tmin, tmax, i0, i1, lower, upper, method, cutoff, threshold, lethal_
     lo_next = np.empty(nc, tmin.dtype)
     hi_next = np.empty(nc, tmin.dtype)
     dd = np.empty(nc, np.float64)
+    dl = np.empty(nc, np.float64)
+    parton_logan = dl_rows.shape[0] > 0
     bad = np.zeros(nc, np.bool_)
     for j in range(nc):
         total[j] = 0.0
@@ -109,7 +117,13 @@ def _stream(tmin, tmax, i0, i1, lower, upper, method, cutoff, threshold, lethal_
         else:                            # the last day of the data: its own minimum
             lo_next[:] = lo
             hi_next[:] = hi
-        _fill_range(lo, hi, lo_next, dd, 0, nc, lower, upper, method, cutoff)
+        if parton_logan:
+            for j in range(nc):
+                dl[j] = dl_rows[cell_row[j], t]
+            _pl_fill_range(lo, hi, lo_next, dl, dd, 0, nc, 1, lower, upper, cutoff,
+                           pl[0], pl[1], pl[2])
+        else:
+            _fill_range(lo, hi, lo_next, dd, 0, nc, lower, upper, method, cutoff)
         day = t - i0 + 1.0
         for j in range(nc):
             x, y, v = lo[j], hi[j], dd[j]
@@ -136,7 +150,8 @@ def _stream(tmin, tmax, i0, i1, lower, upper, method, cutoff, threshold, lethal_
 def season_degree_days(tmin: np.ndarray, tmax: np.ndarray, start: int, stop: int,
                        lower: float, upper: float, method: int | str, cutoff: int | str,
                        dd_per_generation: float, lethal_cold: float | None,
-                       lethal_heat: float | None):
+                       lethal_heat: float | None, *, latitude: np.ndarray | None = None,
+                       doy: np.ndarray | None = None, coefficients: dict | None = None):
     """Season figures straight from (day, ...) Tmin/Tmax, without daily arrays.
 
     The same figures as ``degree_days_block`` followed by ``season_reduce``
@@ -157,6 +172,15 @@ def season_degree_days(tmin: np.ndarray, tmax: np.ndarray, start: int, stop: int
         Degree-days of one generation (the ``first_day`` threshold).
     lethal_cold, lethal_heat : float or None
         Day counts of ``tmin <= lethal_cold`` and ``tmax >= lethal_heat``.
+    latitude, doy : numpy.ndarray, optional
+        Cell latitudes (degrees north, broadcastable to ``tmin.shape[1:]``)
+        and the day of year of every day along axis 0: integrate degree-days
+        over the Parton & Logan (1981) day with Forsythe et al. (1995)
+        daylength (``method`` is then not used), as
+        :func:`suitmap.kernels.degree_days_diurnal.degree_days_parton_logan`.
+        Daylength is computed once per distinct latitude and day.
+    coefficients : dict, optional
+        Parton-Logan a, b, c (default: the 150-cm air temperature values).
 
     Returns
     -------
@@ -183,6 +207,18 @@ def season_degree_days(tmin: np.ndarray, tmax: np.ndarray, start: int, stop: int
     out = [np.empty(a.shape[1]) for _ in range(5)]
     lc = -np.inf if lethal_cold is None else float(lethal_cold)
     lh = np.inf if lethal_heat is None else float(lethal_heat)
+    if latitude is None:
+        dl_rows, cell_row = np.empty((0, 0)), np.zeros(a.shape[1], np.int64)
+        pl = np.zeros(3)
+    else:
+        if doy is None or np.shape(doy) != (tmin.shape[0],):
+            raise ValueError(f"doy must give the day of year of each of the {tmin.shape[0]} days")
+        lat = np.broadcast_to(np.asarray(latitude, dtype=np.float64), shape).reshape(-1)
+        lat_u, cell_row = np.unique(lat, return_inverse=True)     # usually one per grid row
+        dl_rows = np.ascontiguousarray(
+            daylength(lat_u[:, None], np.asarray(doy, dtype=np.float64)[None, :]))
+        cell_row = np.ascontiguousarray(cell_row.reshape(-1), dtype=np.int64)
+        pl = np.array(_coefficients(coefficients))
     _stream(a, b, int(start), int(stop), lower, upper, m, c, float(dd_per_generation),
-            lc, lh, *out)
+            lc, lh, dl_rows, cell_row, pl, *out)
     return tuple(o.reshape(shape) for o in out)
