@@ -41,9 +41,11 @@ def _climate(rng, nt=80, ny=7, nx=9, dtype=np.float32):
 
 @pytest.mark.parametrize("method", METHODS)
 @pytest.mark.parametrize("cutoff", CUTOFFS)
-def test_stream_equals_two_step(method, cutoff):
+@pytest.mark.parametrize("ny, nx", [(7, 9), (41, 53)])   # one tile of cells; three tiles
+def test_stream_equals_two_step(method, cutoff, ny, nx):
     rng = np.random.default_rng(11)
-    tmin, tmax = _climate(rng)
+    tmin, tmax = _climate(rng, ny=ny, nx=nx)
+    tmin[:, -1, -1] = np.nan                        # a missing cell in the last tile
     for i0, i1 in ((0, 80), (5, 60), (30, 79)):
         got = season_degree_days(tmin, tmax, i0, i1, 10.0, 30.0, method, cutoff, 150.0, -2.0, 28.0)
         want = _two_step(tmin, tmax, i0, i1, 10.0, 30.0, method, cutoff, 150.0, -2.0, 28.0)

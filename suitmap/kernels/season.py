@@ -75,69 +75,80 @@ def season_reduce(daily: np.ndarray, tmin: np.ndarray, tmax: np.ndarray, thresho
 
 
 # ------------------------------------------------ time-major stream (degree-days)
+_TILE = 1024   # cells per tile: a tile's running figures and day rows stay in L1/L2
+
+
 @numba.njit(cache=True, nogil=True, error_model="numpy")
 def _stream(tmin, tmax, i0, i1, lower, upper, method, cutoff, threshold, lethal_cold,
             lethal_heat, dl_rows, cell_row, pl, total, first, cold, heat, mtx):
-    """Days i0..i1-1 of (day, cell) arrays, one day's row at a time.
+    """Days i0..i1-1 of (day, cell) arrays, a tile of cells and one day at a time.
 
-    Each row is swapped (Tmin > Tmax), turned into degree-days by the
-    vectorised loop of ``degree_days._fill_range`` and folded into the
-    per-cell running figures, so nothing of the size of the block is
-    allocated and the block is read once, in its own memory order.  With a
-    non-empty ``dl_rows`` (daylength, hours, of each distinct latitude
-    ``cell_row[j]`` on each day) the day is Parton & Logan's with
-    coefficients ``pl`` = (a, b, c) instead of the method's.
+    Each day's row of the tile is swapped (Tmin > Tmax), turned into
+    degree-days by the vectorised loop of ``degree_days._fill_range`` and
+    folded into the tile's running figures, so nothing of the size of the
+    block is allocated and the block is read once.  With a non-empty
+    ``dl_rows`` (daylength, hours, of each distinct latitude ``cell_row[j]``
+    on each day) the day is Parton & Logan's with coefficients ``pl`` =
+    (a, b, c) instead of the method's.  A NaN day makes the sum (degree-days
+    are NaN where an input is) or the Tmax sum NaN, and then every figure.
     """
     nt, nc = tmin.shape
-    lo = np.empty(nc, tmin.dtype)
-    hi = np.empty(nc, tmin.dtype)
-    lo_next = np.empty(nc, tmin.dtype)
-    hi_next = np.empty(nc, tmin.dtype)
-    dd = np.empty(nc, np.float64)
-    dl = np.empty(nc, np.float64)
+    lo = np.empty(_TILE, tmin.dtype)
+    hi = np.empty(_TILE, tmin.dtype)
+    lo_next = np.empty(_TILE, tmin.dtype)
+    hi_next = np.empty(_TILE, tmin.dtype)
+    dd = np.empty(_TILE, np.float64)
+    dl = np.empty(_TILE, np.float64)
     parton_logan = dl_rows.shape[0] > 0
-    bad = np.zeros(nc, np.bool_)
-    for j in range(nc):
-        total[j] = 0.0
-        first[j] = np.nan
-        cold[j] = 0.0
-        heat[j] = 0.0
-        mtx[j] = 0.0
-        a, b = tmin[i0, j], tmax[i0, j]
-        lo_next[j] = b if b < a else a
-        hi_next[j] = a if b < a else b
-    for t in range(i0, i1):
-        lo, lo_next = lo_next, lo
-        hi, hi_next = hi_next, hi
-        if t + 1 < nt:                   # the next day's minimum, swapped too
-            for j in range(nc):
-                a, b = tmin[t + 1, j], tmax[t + 1, j]
-                lo_next[j] = b if b < a else a
-                hi_next[j] = a if b < a else b
-        else:                            # the last day of the data: its own minimum
-            lo_next[:] = lo
-            hi_next[:] = hi
-        if parton_logan:
-            for j in range(nc):
-                dl[j] = dl_rows[cell_row[j], t]
-            _pl_fill_range(lo, hi, lo_next, dl, dd, 0, nc, 1, lower, upper, cutoff,
-                           pl[0], pl[1], pl[2])
-        else:
-            _fill_range(lo, hi, lo_next, dd, 0, nc, lower, upper, method, cutoff)
-        day = t - i0 + 1.0
-        for j in range(nc):
-            x, y, v = lo[j], hi[j], dd[j]
-            bad[j] |= (x != x) | (y != y) | (v != v)
-            acc = total[j] + v
-            total[j] = acc
-            if first[j] != first[j] and acc >= threshold:
-                first[j] = day
-            cold[j] += 1.0 if x <= lethal_cold else 0.0
-            heat[j] += 1.0 if y >= lethal_heat else 0.0
-            mtx[j] += y
+    for c0 in range(0, nc, _TILE):
+        m = min(nc, c0 + _TILE) - c0
+        tot = total[c0:c0 + m]
+        fst = first[c0:c0 + m]
+        cld = cold[c0:c0 + m]
+        hot = heat[c0:c0 + m]
+        sx = mtx[c0:c0 + m]
+        rows = cell_row[c0:c0 + m]
+        for j in range(m):
+            tot[j] = 0.0
+            fst[j] = np.nan
+            cld[j] = 0.0
+            hot[j] = 0.0
+            sx[j] = 0.0
+            a, b = tmin[i0, c0 + j], tmax[i0, c0 + j]
+            lo_next[j] = b if b < a else a
+            hi_next[j] = a if b < a else b
+        for t in range(i0, i1):
+            lo, lo_next = lo_next, lo
+            hi, hi_next = hi_next, hi
+            if t + 1 < nt:                   # the next day's minimum, swapped too
+                ra, rb = tmin[t + 1, c0:c0 + m], tmax[t + 1, c0:c0 + m]
+                for j in range(m):
+                    a, b = ra[j], rb[j]
+                    lo_next[j] = b if b < a else a
+                    hi_next[j] = a if b < a else b
+            else:                            # the last day of the data: its own minimum
+                lo_next[:m] = lo[:m]
+                hi_next[:m] = hi[:m]
+            if parton_logan:
+                for j in range(m):
+                    dl[j] = dl_rows[rows[j], t]
+                _pl_fill_range(lo, hi, lo_next, dl, dd, 0, m, 1, lower, upper, cutoff,
+                               pl[0], pl[1], pl[2])
+            else:
+                _fill_range(lo, hi, lo_next, dd, 0, m, lower, upper, method, cutoff)
+            day = t - i0 + 1.0
+            for j in range(m):
+                x, y = lo[j], hi[j]
+                acc = tot[j] + dd[j]
+                tot[j] = acc
+                f = fst[j]
+                fst[j] = day if (f != f) & (acc >= threshold) else f
+                cld[j] += 1.0 if x <= lethal_cold else 0.0
+                hot[j] += 1.0 if y >= lethal_heat else 0.0
+                sx[j] += y
     n = i1 - i0
     for j in range(nc):
-        if bad[j]:
+        if total[j] != total[j] or mtx[j] != mtx[j]:
             total[j] = np.nan
             first[j] = np.nan
             cold[j] = np.nan
