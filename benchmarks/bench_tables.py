@@ -18,7 +18,11 @@ cells), then, after a warm-up, times best of 3:
   tests/test_tables.py, sine day: table, and the exact quadrature on the
   first 5 days;
 * the same curves with the Parton-Logan day (daylength from the latitude of
-  each row) on the first 30 days: fast quadrature and exact.
+  each row) on the first 30 days: fast quadrature and exact;
+* the same curves with the Parton-Logan day-length tables
+  (``development_table(..., diurnal="parton_logan", daylength_range=...)``,
+  the range of the grid's day lengths) on the first ``PL_DAYS`` days
+  (every day with --quick).
 
 Columns: build time (s), table nodes per axis and size, the share of values
 the evaluation computed exactly (marked cells, out of range), best time,
@@ -56,6 +60,7 @@ LOWER, UPPER = 10.0, 30.0
 TARGET = 400.0                      # Mcell-days/s
 TABLED = ("single_triangle", "double_triangle", "single_sine", "double_sine")
 REPEATS = 3
+PL_DAYS = 120                       # Parton-Logan tables, full grid: first 120 days
 CURVES = {   # as in tests/test_rates.py (sources there)
     "linear": dict(t_low=10.0, thermal_constant=250.0),
     "briere1": dict(a=1.453e-4, t_low=9.645, t_high=37.6185),
@@ -110,7 +115,8 @@ def accuracy(fast: np.ndarray, exact: np.ndarray) -> tuple[float, float]:
 def main() -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--quick", action="store_true", help="100 x 100 cells")
-    shape = (365, 100, 100) if parser.parse_args().quick else (365, 400, 400)
+    quick = parser.parse_args().quick
+    shape = (365, 100, 100) if quick else (365, 400, 400)
     tmin, tmax, dl = synthetic_grid(shape)
     cells = tmin.size
     out = np.empty(shape, dtype=np.float64)
@@ -199,10 +205,32 @@ def main() -> int:
                                          daylength=d, tmin_next=c),
                2 * tmin[0].size, (0.0, 0.0), 0.0)
 
+    # Parton-Logan day-length tables over the grid's day lengths
+    days = shape[0] if quick else PL_DAYS
+    following = np.concatenate([tmin[1:], tmin[-1:]])      # next day's minimum
+    pl = [x[:days] for x in (tmin, tmax, following, dl)]
+    y_range = (float(dl.min()), float(dl.max()))
+    for model, params in CURVES.items():
+        start = time.perf_counter()
+        table = development_table(model, params, diurnal="parton_logan",
+                                  daylength_range=y_range)
+        build = time.perf_counter() - start
+        ex = daily_development(sample[0], sample[1], model, params, diurnal="parton_logan",
+                               daylength=sample[2], tmin_next=s_next)
+        err = accuracy(table.evaluate(sample[0], sample[1], tmin_next=s_next,
+                                      daylength=sample[2]), ex)
+        report(f"dev PL table {model} ({days} d)", table,
+               lambda: table.evaluate(pl[0], pl[1], out[:days], tmin_next=pl[2],
+                                      daylength=pl[3]), pl[0].size, err, build)
+
     fast = [(n, r) for n, r in rows if not n.startswith(("  ", "dev PL"))]
     low = [f"{n} ({r:.0f})" for n, r in fast if r < TARGET]
     print(f"target >= {TARGET:.0f} Mcell-days/s for every degree-day method and sine "
           f"rate summation: {'MET' if not low else 'NOT MET: ' + ', '.join(low)}")
+    low = [f"{n.split()[3]} ({r:.0f})" for n, r in rows if n.startswith("dev PL table")
+           and r < TARGET]
+    print(f"target >= {TARGET:.0f} Mcell-days/s for Parton-Logan rate summation (tables): "
+          f"{'MET' if not low else 'NOT MET: ' + ', '.join(low)}")
     return 0
 
 

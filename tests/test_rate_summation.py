@@ -79,10 +79,11 @@ def test_briere_generations_match_quadrature(tmp_path, fast, rel):
     'model = "sharpe_schoolfield"\nrho25 = 0.0455\nha = 8814.36\nhl = -14877.95\n'
     'tl_half = 298.81\nhh = 47258.52\nth_half = 316.695',
 ])
-def test_fast_and_exact_paths_agree(tmp_path, curve):
+@pytest.mark.parametrize("diurnal", ["sine", "parton_logan"])
+def test_fast_and_exact_paths_agree(tmp_path, curve, diurnal):
     """The fast (table) path must not change results beyond 1e-3 (seasonal totals)."""
-    fast, _, _ = case(tmp_path / "f", curve, fast=True, seed=5)
-    exact, _, _ = case(tmp_path / "e", curve, fast=False, seed=5)
+    fast, _, _ = case(tmp_path / "f", curve, fast=True, seed=5, diurnal=diurnal)
+    exact, _, _ = case(tmp_path / "e", curve, fast=False, seed=5, diurnal=diurnal)
     np.testing.assert_allclose(fast["generations"].values, exact["generations"].values, rtol=1e-3)
 
 

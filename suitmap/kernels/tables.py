@@ -16,9 +16,8 @@ out), with one of three strategies, chosen by measurement
   outside ``t_range``, are computed with the exact kernel.
 * ``"closed_form"`` (every degree-day method by default): the vectorised
   closed forms of ``degree_days`` are faster than a lookup on AVX-512.
-* ``"quadrature"`` (development with the Parton-Logan day): a 3-D table
-  would need ~0.25 h steps in day length for 1e-3 (~100 planes), so each
-  day is integrated by Gauss-Legendre over a 1-D table of the rate curve.
+* development with the Parton-Logan day: ``suitmap.kernels.tables_daylength``
+  (tables over day length, or per-day quadrature over a rate table).
 
 No I/O.
 
@@ -39,15 +38,14 @@ import numpy as np
 from . import development as dev
 from .degree_days import CUTOFFS, METHODS, degree_days_block
 from .degree_days import _fill_range as _dd_fill_range
-from .rates import MODELS, model_code, pack_params, rate_array, rate_limits
+from .rates import model_code, pack_params, rate_limits
 
 __all__ = ["DailyTable", "degree_day_table", "development_table", "T_RANGE"]
 
 T_RANGE = (-50.0, 60.0)       # °C covered by a table; outside: exact kernel
 _TOL, _FLOOR = 5e-4, 0.01     # build check: |err| <= _TOL * max(|f|, _FLOOR * peak)
 _DEFAULTS = {"degree_days": dict(h_min=1 / 32, h_max=0.5, grade=0.05, sub=4),
-             "development": dict(h_min=1 / 32, h_max=0.25, grade=0.05, sub=4),
-             "parton_logan": dict(h_rate=None, n_gauss=None)}
+             "development": dict(h_min=1 / 32, h_max=0.25, grade=0.05, sub=4)}
 _ONE, _HALVES, _PLQ = range(3)        # modes: one lookup, two half-days, quadrature
 _EX_DD, _EX_SINE, _EX_PL = range(3)   # exact kernels for the fallback
 _CHUNK = 16384
@@ -142,20 +140,6 @@ def _table_range(mode: int, kind: int, a: np.ndarray, b: np.ndarray, c: np.ndarr
     return total
 
 
-@numba.njit(**_JIT)
-def _chunk(mode: int, kind: int, a: np.ndarray, b: np.ndarray, c: np.ndarray, d: np.ndarray,
-           out: np.ndarray, start: int, stop: int, grid: tuple, kern: tuple) -> int:
-    """Fast pass over out[start:stop] and the exact kernel where it left
-    +inf; returns how many.  Parton-Logan: grid[0], grid[1] = the rate table."""
-    if mode != _PLQ:
-        return _table_range(mode, kind, a, b, c, d, out, start, stop, grid, kern)
-    cnt = dev._pl_tabulated_range(a, b, c, d, out, start, stop, grid[1], grid[0], kern[0],
-                                  kern[5], kern[6], kern[1][3] != 0)
-    if cnt > 0 and kind >= 0:           # rare: out of the table's range
-        _exact_block(kind, a, b, c, d, out, start, stop, kern)
-    return cnt
-
-
 @numba.njit(parallel=True, **_JIT)
 def _run_parallel(mode: int, kind: int, a: np.ndarray, b: np.ndarray, c: np.ndarray,
                   d: np.ndarray, out: np.ndarray, grid: tuple, kern: tuple) -> int:
@@ -164,7 +148,8 @@ def _run_parallel(mode: int, kind: int, a: np.ndarray, b: np.ndarray, c: np.ndar
     counts = np.zeros(nch, dtype=np.int64)
     for k in numba.prange(nch):
         s = k * _CHUNK
-        counts[k] = _chunk(mode, kind, a, b, c, d, out, s, min(n, s + _CHUNK), grid, kern)
+        counts[k] = _table_range(mode, kind, a, b, c, d, out, s, min(n, s + _CHUNK), grid,
+                                 kern)
     return counts.sum()
 
 
@@ -232,23 +217,30 @@ _NO2D = dev.quadrature_nodes(1)[0]              # read-only, as the real nodes: 
 _NO_KERN = (np.zeros(7), np.zeros(4, np.int64), np.zeros(6), _NO2D, _NO2D, _NO2D, _NO2D)
 
 
-def _checked_table(exact, nodes: np.ndarray, grid: tuple, sub: int,
-                   guard=None) -> tuple[np.ndarray, dict]:
-    """Coefficient table of a symmetric f(Tmin, Tmax), failing cells marked.
+def _checked_table(exact, nodes: np.ndarray, grid: tuple, sub: int, guard=None,
+                   symmetric: bool = True) -> tuple[np.ndarray, dict]:
+    """Coefficient table of f(x, y) on nodes × nodes, failing cells marked.
 
-    Every cell with Tmax index >= Tmin index is checked at sub × sub interior
-    points; a cell where |table - exact| > _TOL max(|exact|, _FLOOR peak)
-    anywhere is marked (+inf, so computed exactly), and so is its mirror
-    image (f is symmetric, and so is the table); also where
-    ``guard(x, y, f)`` is False at a check point.
+    Symmetric f (f(Tmin, Tmax) = f(Tmax, Tmin)): every cell with y index >=
+    x index is checked at sub × sub interior points; a cell where |table -
+    exact| > _TOL max(|exact|, _FLOOR peak) anywhere is marked (+inf, so
+    computed exactly), and so is its mirror image; also where ``guard(x, y,
+    f)`` is False at a check point.  ``symmetric=False``: every cell is
+    checked and marked alone.
     """
     v = exact(*np.meshgrid(nodes, nodes, indexing="ij"))
-    peak = float(np.max(np.abs(v[np.triu_indices(nodes.size)])))
+    if symmetric:
+        peak = float(np.max(np.abs(v[np.triu_indices(nodes.size)])))
+    else:
+        peak = float(np.max(np.abs(v)))
     tab = np.zeros((nodes.size + 1,) * 2 + (4,), dtype=np.float32)   # bilinear coefficients,
     tab[..., 0] = np.inf                                             # border of +inf cells
     tab[1:-1, 1:-1] = np.stack([v[:-1, :-1], v[1:, :-1] - v[:-1, :-1], v[:-1, 1:] - v[:-1, :-1],
                                 v[1:, 1:] - v[1:, :-1] - v[:-1, 1:] + v[:-1, :-1]], axis=-1)
-    ci, cj = np.triu_indices(nodes.size - 1)
+    if symmetric:
+        ci, cj = np.triu_indices(nodes.size - 1)
+    else:
+        ci, cj = (g.reshape(-1) for g in np.indices((nodes.size - 1,) * 2))
     off = (np.arange(sub) + 0.5) / sub
     ox, oy = (o.reshape(-1) for o in np.meshgrid(off, off, indexing="ij"))
     width = np.diff(nodes)
@@ -262,7 +254,7 @@ def _checked_table(exact, nodes: np.ndarray, grid: tuple, sub: int,
     if guard is not None:
         fail |= ~guard(x, y, ex)
     bad = fail.reshape(ci.size, -1).any(axis=1)
-    for i, j in ((ci[bad], cj[bad]), (cj[bad], ci[bad])):
+    for i, j in ((ci[bad], cj[bad]), (cj[bad], ci[bad]))[:2 if symmetric else 1]:
         tab[i + 1, j + 1] = (np.inf, 0.0, 0.0, 0.0)
     good = np.repeat(~bad, ox.size)
     big = good & (np.abs(ex) > _FLOOR * peak)
@@ -299,9 +291,9 @@ class DailyTable:
         points of the unmarked cells; quadrature: on 20000 seeded days):
         largest |error|, and |error|/|exact| where exact > 1 % of ``peak``,
         the largest value seen.  0 for closed forms.
-    marked_fraction, nodes, build_seconds, last_exact_count
+    marked_fraction, nodes, build_seconds, last_exact_count, needs_daylength
         Share of cells computed exactly; nodes per axis; build time; how
-        many values the last ``evaluate`` computed exactly.
+        many values the last ``evaluate`` computed exactly; Parton-Logan.
 
     References
     ----------
@@ -320,6 +312,7 @@ class DailyTable:
         self.peak = math.nan
         self.max_abs_error = self.max_rel_error = self.marked_fraction = 0.0
         self.build_seconds, self.last_exact_count = 0.0, 0
+        self.needs_daylength = False
 
     @classmethod
     def build(cls, kind: str, **spec) -> DailyTable:
@@ -358,7 +351,7 @@ class DailyTable:
         shape = np.shape(tmin)
         a, b = _flat(tmin, shape, "tmin"), _flat(tmax, shape, "tmax")
         c = a if tmin_next is None else _flat(tmin_next, shape, "tmin_next")
-        if self.mode == _PLQ:
+        if self.needs_daylength:
             if daylength is None:
                 raise ValueError("a Parton-Logan table needs daylength (hours) to evaluate")
             d = _flat(daylength, shape, "daylength")
@@ -369,14 +362,17 @@ class DailyTable:
         elif (not isinstance(out, np.ndarray) or out.dtype != np.float64 or out.shape != shape
               or not out.flags.c_contiguous or not out.flags.writeable):
             raise ValueError(f"out must be a writeable C-contiguous float64 array of shape {shape}")
-        o = out.reshape(-1)
-        if parallel and o.size >= _PARALLEL_MIN:
-            n = _run_parallel(self.mode, self.exact_kind, a, b, c, d, o, self.grid, self.kern)
-        else:
-            n = _chunk(self.mode, self.exact_kind, a, b, c, d, o, 0, o.size, self.grid,
-                       self.kern)
-        self.last_exact_count = int(n)
+        self.last_exact_count = int(self._run(a, b, c, d, out.reshape(-1), parallel))
         return out
+
+    def _run(self, a: np.ndarray, b: np.ndarray, c: np.ndarray, d: np.ndarray,
+             o: np.ndarray, parallel: bool) -> int:
+        """The compiled pass over flat inputs into o; returns the exact count."""
+        if parallel and o.size >= _PARALLEL_MIN:
+            return _run_parallel(self.mode, self.exact_kind, a, b, c, d, o, self.grid,
+                                 self.kern)
+        return _table_range(self.mode, self.exact_kind, a, b, c, d, o, 0, o.size, self.grid,
+                            self.kern)
 
     def __repr__(self) -> str:
         return (f"DailyTable({self.kind}, {self.strategy}, nodes={self.nodes}, "
@@ -384,11 +380,13 @@ class DailyTable:
                 f"marked={self.marked_fraction:.4f})")
 
 
-def _grid_options(group: str, grid: dict) -> dict:
-    bad = set(grid) - set(_DEFAULTS[group])
+def _grid_options(group: str | dict, grid: dict) -> dict:
+    """``grid`` over the defaults of ``group`` (a name or the defaults)."""
+    base = _DEFAULTS[group] if isinstance(group, str) else group
+    bad = set(grid) - set(base)
     if bad:
-        raise ValueError(f"unknown table option(s) {sorted(bad)}; use {sorted(_DEFAULTS[group])}")
-    return dict(_DEFAULTS[group], **grid)
+        raise ValueError(f"unknown table option(s) {sorted(bad)}; use {sorted(base)}")
+    return dict(base, **grid)
 
 
 def _build_degree_days(lower: float, upper: float, method: str, cutoff: str,
@@ -444,54 +442,36 @@ def _build_degree_days(lower: float, upper: float, method: str, cutoff: str,
 
 def _build_development(model: str, params: dict, diurnal: str = "sine",
                        t_range: tuple[float, float] = T_RANGE, coefficients: dict | None = None,
-                       n_nodes: int = dev.DEFAULT_NODES, **grid) -> DailyTable:
+                       n_nodes: int = dev.DEFAULT_NODES,
+                       daylength_range: tuple[float, float] | None = None,
+                       **grid) -> DailyTable:
     code = model_code(model)
     packed = pack_params(code, params)
     lo, hi = rate_limits(code, params)
     d = dev._diurnal_code(diurnal)
-    opts = _grid_options("development" if d == dev._SINE else "parton_logan", grid)
     coef = dev._pl_coefficients(coefficients)
+    if d != dev._SINE:
+        from .tables_daylength import build_parton_logan  # it imports this module
+        return build_parton_logan(model, params, t_range, coef, n_nodes, daylength_range,
+                                  grid)
+    if daylength_range is not None:
+        raise ValueError("daylength_range is for diurnal='parton_logan' only")
+    opts = _grid_options("development", grid)
     spec = dict(model=model, params=dict(params), diurnal=diurnal, t_range=tuple(t_range),
                 coefficients=dict(zip("abc", coef.tolist())), n_nodes=n_nodes, **opts)
-    table = DailyTable("development", spec, "table" if d == dev._SINE else "quadrature")
+    table = DailyTable("development", spec, "table")
     par = (np.array([0.0, 0.0, lo, hi, *coef]), np.array([0, 0, code, code in dev._POWER_HI]),
            packed, *dev.quadrature_nodes(n_nodes))
 
-    def exact(x, y, w=None, dl=None):
-        return dev.development_block(x, y, code, packed, (lo, hi), diurnal=d, tmin_next=w,
-                                     daylength=dl, coefficients=coef, n_nodes=n_nodes)
+    def exact(x, y):
+        return dev.development_block(x, y, code, packed, (lo, hi), diurnal=d, n_nodes=n_nodes)
 
-    if d == dev._SINE:
-        nodes, dj = _graded_axis(t_range, [lo, hi], opts["h_min"], opts["h_max"],
-                                 opts["grade"])
-        grid = _locator(nodes, dj)
-        tab, st = _checked_table(exact, nodes, grid, opts["sub"])
-        table.mode, table.exact_kind, table.nodes = _ONE, _EX_SINE, nodes.size
-        table.grid, table.kern = (*grid, tab), (*par, _NO2D, _NO2D)
-        table.__dict__.update(st)
-        return table
-    # Parton-Logan: uniform rate table with the limits on nodes, Gauss-Legendre per piece
-    h = opts["h_rate"] or (1 / 1024 if code in dev._POWER_HI else 1 / 64)   # measured
-    nodes, dj = _graded_axis(t_range, [lo, hi], h, h, 1.0)
-    r = rate_array(nodes, code, packed, parallel=False)
-    rt = np.stack([r, np.append(np.diff(r), 0.0)], axis=1).reshape(-1).astype(np.float32)
-    rax = np.array([nodes[0], 1.0 / dj, nodes.size - 2, t_range[0], t_range[1]], np.float32)
-    table.grid = (rax, rt, _NOINT, _NOINT, _NONE32)
-    n_gauss = opts["n_gauss"] or (10 if MODELS[code] == "sharpe_schoolfield" else 8)
-    table.kern = (*par, *dev.quadrature_nodes(int(n_gauss)))      # measured, as h above
-    table.mode, table.exact_kind, table.nodes = _PLQ, _EX_PL, nodes.size
-    rng = np.random.default_rng(20240101)          # seeded realistic check days
-    lo_t, hi_t = max(t_range[0], -15.0), min(t_range[1], 45.0)
-    tmin = rng.uniform(lo_t, hi_t - 5.0, 20000)
-    days = (tmin, np.minimum(tmin + rng.gamma(2.0, 5.0, tmin.size), hi_t),
-            np.clip(tmin + rng.normal(0.0, 3.0, tmin.size), lo_t, hi_t),
-            rng.uniform(0.0, 24.0, tmin.size))
-    ex = exact(*days)
-    err = np.abs(table.evaluate(days[0], days[1], tmin_next=days[2], daylength=days[3]) - ex)
-    table.peak = float(ex.max())
-    big = ex > _FLOOR * table.peak
-    table.max_abs_error = float(err.max())
-    table.max_rel_error = float((err[big] / ex[big]).max(initial=0.0))
+    nodes, dj = _graded_axis(t_range, [lo, hi], opts["h_min"], opts["h_max"], opts["grade"])
+    grid = _locator(nodes, dj)
+    tab, st = _checked_table(exact, nodes, grid, opts["sub"])
+    table.mode, table.exact_kind, table.nodes = _ONE, _EX_SINE, nodes.size
+    table.grid, table.kern = (*grid, tab), (*par, _NO2D, _NO2D)
+    table.__dict__.update(st)
     return table
 
 
@@ -525,13 +505,13 @@ def development_table(model: str, params: dict, *, diurnal: str = "sine",
     """Fast daily development for one rate curve and diurnal curve.
 
     ``diurnal="sine"``: a graded (Tmin, Tmax) table with the rate limits
-    (``rates.rate_limits``) on grid lines.  ``"parton_logan"``: per cell,
-    Gauss-Legendre (``n_gauss`` nodes per piece; default 8, 10 for
-    Sharpe-Schoolfield) over a table of the rate curve (step ``h_rate``,
-    default 1/64 °C, 1/1024 °C for the Briere square root); evaluate with
-    ``daylength`` and ``tmin_next``.  ``options``: ``t_range``,
-    ``coefficients``, ``n_nodes`` (exact kernel), the grid options.
-    Raises ValueError as ``suitmap.kernels.rates.validate_params``.
+    (``rates.rate_limits``) on grid lines.  ``"parton_logan"`` (evaluate
+    with ``daylength`` and ``tmin_next``): with ``daylength_range=(ymin,
+    ymax)`` (hours) tables over day length, without it per-day quadrature
+    over a rate table (``suitmap.kernels.tables_daylength``).  ``options``:
+    ``t_range``, ``coefficients`` (Parton-Logan a, b, c), ``n_nodes`` (exact
+    kernel), ``daylength_range``, the grid options.  Raises ValueError as
+    ``rates.validate_params``, for unknown options and a bad range.
 
     References
     ----------
