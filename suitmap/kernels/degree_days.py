@@ -178,6 +178,16 @@ def _float_dtype(*arrays: np.ndarray) -> np.dtype:
     return np.dtype(np.float32 if all(a.dtype == np.float32 for a in arrays) else np.float64)
 
 
+def _output_array(out: np.ndarray | None, shape: tuple[int, ...]) -> np.ndarray:
+    """``out``, checked to be a writeable C-contiguous float64 array of ``shape``, or a new one."""
+    if out is None:
+        return np.empty(shape, dtype=np.float64)
+    if (not isinstance(out, np.ndarray) or out.dtype != np.float64 or out.shape != shape
+            or not out.flags.c_contiguous or not out.flags.writeable):
+        raise ValueError(f"out must be a writeable C-contiguous float64 array of shape {shape}")
+    return out
+
+
 # ----------------------------------------------------------------------- public
 def degree_days_block(tmin: np.ndarray, tmax: np.ndarray, tmin_next: np.ndarray | None,
                       lower: float, upper: float, method_code: int | str,
@@ -249,12 +259,7 @@ def degree_days_block(tmin: np.ndarray, tmax: np.ndarray, tmin_next: np.ndarray 
     flat = [np.asarray(a, dtype=dtype, order="C").reshape(-1) for a in arrays]
     if len(flat) == 2:
         flat.append(flat[0])       # placeholder, never read by single methods
-    if out is None:
-        out = np.empty(tmin.shape, dtype=np.float64)
-    elif (not isinstance(out, np.ndarray) or out.dtype != np.float64 or out.shape != tmin.shape
-          or not out.flags.c_contiguous or not out.flags.writeable):
-        raise ValueError("out must be a writeable C-contiguous float64 array of shape "
-                         f"{tmin.shape}")
+    out = _output_array(out, tmin.shape)
     out_flat = out.reshape(-1)
     if parallel and out_flat.size >= _PARALLEL_MIN:
         _fill_parallel(flat[0], flat[1], flat[2], out_flat, lower, upper, m, c)

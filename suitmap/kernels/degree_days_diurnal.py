@@ -24,8 +24,8 @@ import numba
 import numpy as np
 from numpy.typing import ArrayLike
 
-from .degree_days import (CUTOFFS, _asin, _check_code, _finish, _float_dtype, _point_parts,
-                          _thresholds, _unit_clip)
+from .degree_days import (CUTOFFS, _asin, _check_code, _finish, _float_dtype, _output_array,
+                          _point_parts, _thresholds, _unit_clip)
 from .diurnal import PARTON_LOGAN_150CM
 
 __all__ = ["degree_days_parton_logan", "degree_days_parton_logan_block"]
@@ -375,12 +375,7 @@ def degree_days_parton_logan_block(tmin: np.ndarray, tmax: np.ndarray,
     dl, rep = _daylength_rows(daylength, tmin.shape)
     dtype = _float_dtype(tmin, tmax, tnext)
     flat = [np.asarray(x, dtype=dtype, order="C").reshape(-1) for x in (tmin, tmax, tnext)]
-    if out is None:
-        out = np.empty(tmin.shape, dtype=np.float64)
-    elif (not isinstance(out, np.ndarray) or out.dtype != np.float64 or out.shape != tmin.shape
-          or not out.flags.c_contiguous or not out.flags.writeable):
-        raise ValueError("out must be a writeable C-contiguous float64 array of shape "
-                         f"{tmin.shape}")
+    out = _output_array(out, tmin.shape)
     out_flat = out.reshape(-1)
     if out_flat.size == 0:
         return out
