@@ -16,6 +16,18 @@ import xarray as xr
 from .kernels import degree_days as _k
 
 
+def _named(out: xr.DataArray, lower: float, upper: float, how: str) -> xr.DataArray:
+    """Name and CF attributes of a daily degree-day DataArray."""
+    out.name = "degree_days"
+    out.attrs = {
+        "units": "K d",
+        "long_name": f"daily degree-days between {lower} and {upper} degC ({how})",
+        "standard_name": "integral_wrt_time_of_air_temperature_excess",
+        "cell_methods": "time: sum",
+    }
+    return out
+
+
 def _next_day_min(tmin: xr.DataArray) -> xr.DataArray:
     """Tmin of the following day; the last day uses its own minimum."""
     nxt = xr.concat([tmin.isel(time=slice(1, None)), tmin.isel(time=[-1])], dim="time")
@@ -94,15 +106,7 @@ def degree_days(tmin, tmax, lower: float, upper: float, *, method: str = "single
 
     out = xr.apply_ufunc(_apply, tmin, tmax, tmin_next, dask="parallelized",
                          output_dtypes=[np.float64])
-    out.name = "degree_days"
-    out.attrs = {
-        "units": "K d",
-        "long_name": f"daily degree-days between {lower} and {upper} degC "
-                     f"({method}, {cutoff} cutoff)",
-        "standard_name": "integral_wrt_time_of_air_temperature_excess",
-        "cell_methods": "time: sum",
-    }
-    return out
+    return _named(out, lower, upper, f"{method}, {cutoff} cutoff")
 
 
 def _xr_daylength_input(value, ref: xr.DataArray, what: str):
@@ -157,15 +161,7 @@ def _degree_days_diurnal(tmin, tmax, lower, upper, method, cutoff, tmin_next, di
 
     out = xr.apply_ufunc(_apply, tmin, tmax, tmin_next, dl, dask="parallelized",
                          output_dtypes=[np.float64])
-    out.name = "degree_days"
-    out.attrs = {
-        "units": "K d",
-        "long_name": f"daily degree-days between {lower} and {upper} degC "
-                     f"(Parton-Logan day, {cutoff} cutoff)",
-        "standard_name": "integral_wrt_time_of_air_temperature_excess",
-        "cell_methods": "time: sum",
-    }
-    return out
+    return _named(out, lower, upper, f"Parton-Logan day, {cutoff} cutoff")
 
 
 def development_rate(temp, model: str, **params):
