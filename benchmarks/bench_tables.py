@@ -56,21 +56,15 @@ from suitmap.kernels.tables import degree_day_table, development_table  # noqa: 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 from bench_kernels import synthetic_grid as _kernel_grid  # noqa: E402  (same synthetic grid)
 
+# the published parameter sets of the tests (their sources are cited there)
+sys.path.insert(0, str(Path(__file__).resolve().parent.parent / "tests"))
+from test_development import CURVES  # noqa: E402
+
 LOWER, UPPER = 10.0, 30.0
 TARGET = 400.0                      # Mcell-days/s
 TABLED = ("single_triangle", "double_triangle", "single_sine", "double_sine")
 REPEATS = 3
 PL_DAYS = 120                       # Parton-Logan tables, full grid: first 120 days
-CURVES = {   # as in tests/test_rates.py (sources there)
-    "linear": dict(t_low=10.0, thermal_constant=250.0),
-    "briere1": dict(a=1.453e-4, t_low=9.645, t_high=37.6185),
-    "briere2": dict(a=1.57e-4, t_low=11.26, t_high=34.0, m=1.75),
-    "lactin1": dict(rho=0.15543, t_high=38.0487, delta=6.4212),
-    "lactin2": dict(rho=0.15543, t_high=38.0487, delta=6.4212, lam=-0.05),
-    "logan6": dict(psi=0.0613, rho=0.1689, t_high=36.6712, delta=5.7836),
-    "sharpe_schoolfield": dict(rho25=0.0455, ha=8814.36, hl=-14877.95, tl_half=298.81,
-                               hh=47258.52, th_half=316.695),
-}
 
 
 def synthetic_grid(shape: tuple[int, int, int], seed: int = 20240101):
@@ -185,43 +179,39 @@ def main() -> int:
         report("  exact quadrature (5 days)", None,
                lambda: daily_development(a, b, model, params), few, (0.0, 0.0), 0.0)
 
+    def pl_rows(label, pl, **table_kw):
+        """Each curve's Parton-Logan table: built, checked on the sample, timed on ``pl``."""
+        days = pl[0].shape[0]
+        for model, params in CURVES.items():
+            start = time.perf_counter()
+            table = development_table(model, params, diurnal="parton_logan", **table_kw)
+            build = time.perf_counter() - start
+            ex = daily_development(sample[0], sample[1], model, params, diurnal="parton_logan",
+                                   daylength=sample[2], tmin_next=s_next)
+            err = accuracy(table.evaluate(sample[0], sample[1], tmin_next=s_next,
+                                          daylength=sample[2]), ex)
+            report(f"{label} {model} ({days} d)", table,
+                   lambda: table.evaluate(pl[0], pl[1], out[:days], tmin_next=pl[2],
+                                          daylength=pl[3]), pl[0].size, err, build)
+            yield model, params
+
     days = 30                       # Parton-Logan: first 30 days
     pl = [x[:days] for x in (tmin, tmax, tmin[1:days + 1], dl)]
-    sub = days * tmin[0].size
-    for model, params in CURVES.items():
-        start = time.perf_counter()
-        table = development_table(model, params, diurnal="parton_logan")
-        build = time.perf_counter() - start
-        ex = daily_development(sample[0], sample[1], model, params, diurnal="parton_logan",
-                               daylength=sample[2], tmin_next=s_next)
-        err = accuracy(table.evaluate(sample[0], sample[1], tmin_next=s_next,
-                                      daylength=sample[2]), ex)
-        report(f"dev PL {model} ({days} d)", table,
-               lambda: table.evaluate(pl[0], pl[1], out[:days], tmin_next=pl[2],
-                                      daylength=pl[3]), sub, err, build)
+    for model, params in pl_rows("dev PL", pl):
         a, b, c, d = (x[:2] for x in pl)
         report("  exact quadrature (2 days)", None,
                lambda: daily_development(a, b, model, params, diurnal="parton_logan",
                                          daylength=d, tmin_next=c),
                2 * tmin[0].size, (0.0, 0.0), 0.0)
 
+
     # Parton-Logan day-length tables over the grid's day lengths
     days = shape[0] if quick else PL_DAYS
     following = np.concatenate([tmin[1:], tmin[-1:]])      # next day's minimum
     pl = [x[:days] for x in (tmin, tmax, following, dl)]
     y_range = (float(dl.min()), float(dl.max()))
-    for model, params in CURVES.items():
-        start = time.perf_counter()
-        table = development_table(model, params, diurnal="parton_logan",
-                                  daylength_range=y_range)
-        build = time.perf_counter() - start
-        ex = daily_development(sample[0], sample[1], model, params, diurnal="parton_logan",
-                               daylength=sample[2], tmin_next=s_next)
-        err = accuracy(table.evaluate(sample[0], sample[1], tmin_next=s_next,
-                                      daylength=sample[2]), ex)
-        report(f"dev PL table {model} ({days} d)", table,
-               lambda: table.evaluate(pl[0], pl[1], out[:days], tmin_next=pl[2],
-                                      daylength=pl[3]), pl[0].size, err, build)
+    for _ in pl_rows("dev PL table", pl, daylength_range=y_range):
+        pass
 
     fast = [(n, r) for n, r in rows if not n.startswith(("  ", "dev PL"))]
     low = [f"{n} ({r:.0f})" for n, r in fast if r < TARGET]
