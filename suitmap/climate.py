@@ -46,6 +46,8 @@ import rioxarray  # noqa: F401  (registers the .rio accessor)
 import xarray as xr
 from pyproj import CRS
 
+from suitmap.climate_time import _as_dates, _days, _iso, _ymd, select_years  # noqa: F401 (re-exported)
+from suitmap.climate_time import _check_daily, _check_monthly, _drop_overlap, _is_monthly
 from suitmap.errors import GridMismatch, InputError, SuitmapWarning
 
 __all__ = ["COMMON_NAMES", "DEFAULT_CHUNKS", "ClimateQA", "check_same_grid", "open_climate",
@@ -263,73 +265,6 @@ def _normalise(p: dict) -> tuple[xr.DataArray, CRS]:
     return da, crs
 
 
-def _days(times: np.ndarray) -> np.ndarray:
-    if np.issubdtype(times.dtype, np.datetime64):
-        return (times - times[0]) / np.timedelta64(1, "D")
-    return np.array([(t - times[0]).total_seconds() / 86400.0 for t in times])
-
-
-def _iso(t) -> str:
-    return str(np.datetime64(t, "D")) if isinstance(t, np.datetime64) else t.strftime("%Y-%m-%d")
-
-
-def _drop_overlap(da: xr.DataArray, what: str) -> xr.DataArray:
-    """Drop days that an earlier-starting file already holds (e.g. historical + scenario files)."""
-    days = _days(da["time"].values)
-    if days.size < 2:
-        return da
-    seen = np.maximum.accumulate(days)
-    keep = np.ones(days.size, dtype=bool)
-    keep[1:] = days[1:] > seen[:-1]
-    n = int((~keep).sum())
-    if n:
-        dup = da["time"].values[~keep]
-        warnings.warn(f"{what}: {n} day(s) from {_iso(dup[0])} to {_iso(dup[-1])} are held by more than "
-                      "one file; the first file's values are kept", SuitmapWarning, stacklevel=3)
-        da = da.isel(time=np.flatnonzero(keep))
-    return da
-
-
-def _is_monthly(times: np.ndarray) -> bool:
-    if times.size < 2:
-        return False
-    return 27.5 <= float(np.median(np.diff(_days(times)))) <= 31.5
-
-
-def _check_monthly(times: np.ndarray, what: str) -> None:
-    ym = np.array([int(t.year) * 12 + int(t.month) - 1 for t in _as_dates(times)])
-    if np.any(np.diff(ym) != 1):
-        i = int(np.argmax(np.diff(ym) != 1))
-        raise InputError(f"{what}: monthly values must be consecutive months; "
-                         f"{_iso(times[i])} is followed by {_iso(times[i + 1])}")
-
-
-def _as_dates(times: np.ndarray):
-    if np.issubdtype(np.asarray(times).dtype, np.datetime64):
-        import pandas as pd
-
-        return list(pd.DatetimeIndex(times))
-    return list(times)
-
-
-def _check_daily(times: np.ndarray, what: str) -> None:
-    if times.size < 2:
-        return
-    steps = np.diff(_days(times))
-    if np.any(steps <= 0):
-        i = int(np.argmax(steps <= 0))
-        raise InputError(f"{what}: day {_iso(times[i + 1])} appears twice or out of order (overlapping files?); "
-                         "give each day once")
-    typical = float(np.median(steps))
-    if abs(typical - 1.0) > _TOL:
-        raise InputError(f"{what}: time step is {typical:g} days; daily data is needed (one value per day)")
-    bad = np.flatnonzero(np.abs(steps - 1.0) > _TOL)
-    if bad.size:
-        i = int(bad[0])
-        raise InputError(f"{what}: days missing between {_iso(times[i])} and {_iso(times[i + 1])}; "
-                         "daily data without gaps is needed")
-
-
 def _axis_attrs(crs: CRS) -> dict:
     if crs.is_geographic:
         return {"x": dict(standard_name="longitude", long_name="longitude", units="degrees_east", axis="X"),
@@ -435,7 +370,7 @@ def open_climate(paths, role: str, *, variable: str | None = None, chunks: dict 
     return da
 
 
-# --------------------------------------------------------------------------- grids, years
+# --------------------------------------------------------------------------- grids
 def _grid(da: xr.DataArray):
     x, y = da["x"].values.astype("float64"), da["y"].values.astype("float64")
     dx = float(np.median(np.abs(np.diff(x)))) if x.size > 1 else float("nan")
@@ -476,29 +411,6 @@ def check_same_grid(a: xr.DataArray, b: xr.DataArray, a_name: str, b_name: str) 
     if diffs:
         raise GridMismatch(f"grids of {a_name} and {b_name} differ: {'; '.join(diffs)}; "
                            "regrid them onto one grid")
-
-
-def _ymd(da: xr.DataArray) -> np.ndarray:
-    t = da["time"].dt
-    return (t.year * 10000 + t.month * 100 + t.day).values
-
-
-def select_years(da: xr.DataArray, first: int, last: int, *, label: str) -> xr.DataArray:
-    """Keep whole calendar years ``first``–``last``; :class:`InputError` unless the data holds all of them."""
-    if first > last:
-        raise InputError(f"{label}: first year {first} is after last year {last}; fix the period")
-    ymd = _ymd(da)
-    year, md = ymd // 10000, ymd % 10000
-    end_md = 1230 if da.attrs.get("calendar") == "360_day" else 1231
-    full = sorted(set(year[md == 101]) & set(year[md == end_md]))
-    wanted = set(range(first, last + 1))
-    if not wanted <= set(full):
-        held = f"{full[0]}–{full[-1]}" if full else "none"
-        raise InputError(f"{label}: years {first}–{last} requested but the files hold "
-                         f"{_iso(da.time.values[0])} to {_iso(da.time.values[-1])} (complete years: {held}); "
-                         "change the period or add files")
-    idx = np.flatnonzero((year >= first) & (year <= last))
-    return da.isel(time=slice(int(idx[0]), int(idx[-1]) + 1))
 
 
 from suitmap.climate_geotiff import _open_geotiff  # noqa: E402

@@ -6,9 +6,10 @@ day's assumed temperature curve, (1/24 h) ∫ r(T(t)) dt, for any curve of
 single-sine degree-day method, and Parton & Logan's day sine with a night
 exponential decay.  Compiled Gauss-Legendre quadrature between the points
 where T(t) crosses the limits of the rate curve (``rates.rate_limits``), so
-the rate's kinks (zero outside its limits) fall on interval ends.  Also the
-compiled loop of the fast Parton-Logan path of ``suitmap.kernels.tables``
-(the same day over a tabulated rate).  No I/O.
+the rate's kinks (zero outside its limits) fall on interval ends.  The
+compiled integrals of one day, and the loop of the fast Parton-Logan path of
+``suitmap.kernels.tables`` (the same day over a tabulated rate), live in
+:mod:`suitmap.kernels.development_day` and are re-exported here.  No I/O.
 
 References
 ----------
@@ -18,16 +19,18 @@ Agricultural Meteorology 23:205-216; Abramowitz & Stegun (1964) 25.4.29.
 
 from __future__ import annotations
 
-import math
 from functools import lru_cache
 
 import numba
 import numpy as np
 from numpy.typing import ArrayLike
 
-from .degree_days import _asin
+from .development_day import _JIT, _pl_day, _sine_day
+from .development_day import (  # noqa: F401  (re-exported: tables*.py call them as dev.<name>)
+    _HALF_PI, _INLINE, _S, _S0, _S1, _S2, _S3, _S4, _S5, _S6, _S7, _S8, _S9, _branch, _pl_daytime,
+    _asin, _pl_night, _pl_tabulated_range, _rate, _s_cross, _sin, _unit)
 from .diurnal import PARTON_LOGAN_150CM
-from .rates import model_code, pack_params, rate_limits, rate_scalar
+from .rates import model_code, pack_params, rate_limits, rate_scalar  # noqa: F401
 
 __all__ = ["DIURNAL", "DEFAULT_NODES", "daily_development", "development_block",
            "accumulate_generations", "quadrature_nodes"]
@@ -39,11 +42,8 @@ relative against scipy.integrate.quad for every curve (measured <= 2e-8;
 4 nodes miss it)."""
 _SINE, _PL = 0, 1
 _POWER_HI = (1, 2)  # briere1, briere2: (t_high - T)^(1/m) at the upper limit
-_HALF_PI = 0.5 * math.pi
 _CHUNK = 4096           # elements per parallel work item (an element is ~1 us)
 _PARALLEL_MIN = 8192
-_INLINE = dict(cache=True, nogil=True, error_model="numpy", inline="always")
-_JIT = dict(cache=True, nogil=True, error_model="numpy")  # nogil: dask threads run kernels at once
 
 
 @lru_cache(maxsize=16)
@@ -73,204 +73,6 @@ def quadrature_nodes(n: int) -> tuple[np.ndarray, np.ndarray]:
     x.flags.writeable = False
     wx.flags.writeable = False
     return x, wx
-
-
-# ---------------------------------------------------------------- scalar parts
-@numba.njit(**_INLINE)
-def _unit(x: float) -> float:
-    return 1.0 if x > 1.0 else (-1.0 if x < -1.0 else x)
-
-
-@numba.njit(**_JIT)
-def _branch(base: float, amp: float, pa: float, pb: float, lo: float, hi: float,
-            code: int, p: np.ndarray, x: np.ndarray, w: np.ndarray, power_hi: bool) -> float:
-    """∫ r(base + amp·sin ψ) dψ over [pa, pb] ⊂ [−π/2, π/2] (sin increasing),
-    restricted to lo < T < hi where the rate can be non-zero; nodes
-    clustered at the hot end if ``power_hi`` (a power law at hi)."""
-    if amp == 0.0:
-        r = rate_scalar(code, p[0], p[1], p[2], p[3], p[4], p[5], base)
-        return (pb - pa) * r if pb > pa else 0.0
-    s_lo = math.asin(_unit((lo - base) / amp))
-    s_hi = math.asin(_unit((hi - base) / amp))
-    rising = amp > 0.0
-    a = max(pa, s_lo if rising else s_hi)
-    b = min(pb, s_hi if rising else s_lo)
-    if not b > a:
-        return 0.0
-    # A power law at hi: cluster the nodes at the hot end (where hi is
-    # crossed, or nearly reached at the top of the sine).
-    rule = (2 if rising else 1) if power_hi else 0
-    width = b - a
-    total = 0.0
-    for k in range(x.shape[1]):
-        t = base + amp * math.sin(a + width * x[rule, k])
-        total += w[rule, k] * rate_scalar(code, p[0], p[1], p[2], p[3], p[4], p[5], t)
-    return width * total
-
-
-@numba.njit(**_JIT)
-def _sine_day(tmin: float, tmax: float, lo: float, hi: float, code: int, p: np.ndarray,
-              x: np.ndarray, w: np.ndarray, power_hi: bool) -> float:
-    """Daily mean rate over M + α sin φ, φ over one period (Baskerville & Emin
-    1969): by symmetry (1/π) ∫_{−π/2}^{π/2} r(M + α sin φ) dφ."""
-    if tmin != tmin or tmax != tmax:
-        return math.nan
-    mean = 0.5 * (tmin + tmax)
-    amp = 0.5 * abs(tmax - tmin)
-    return _branch(mean, amp, -_HALF_PI, _HALF_PI, lo, hi, code, p, x, w, power_hi) / math.pi
-
-
-@numba.njit(**_JIT)
-def _pl_daytime(tn: float, tx: float, y: float, a: float, c: float, lo: float, hi: float,
-                code: int, p: np.ndarray, x: np.ndarray, w: np.ndarray,
-                power_hi: bool) -> float:
-    """∫ r dt (rate × hours) from sunrise to sunset of the Parton & Logan
-    day T = Tn + (Tx − Tn) sin ψ, ψ = π(τ − c)/(Y + 2a), τ ∈ [0, Y] hours
-    after sunrise; split where sin ψ turns (ψ = π/2)."""
-    scale = (y + 2.0 * a) / math.pi           # hours per radian
-    p0 = -math.pi * c / (y + 2.0 * a)
-    p1 = math.pi * (y - c) / (y + 2.0 * a)
-    amp = tx - tn
-    total = 0.0
-    if p0 < _HALF_PI:                          # rising part
-        total += _branch(tn, amp, p0, min(p1, _HALF_PI), lo, hi, code, p, x, w, power_hi)
-    if p1 > _HALF_PI:                          # falling part, mirrored: sin(π − ψ)
-        total += _branch(tn, amp, math.pi - p1, math.pi - max(p0, _HALF_PI), lo, hi,
-                         code, p, x, w, power_hi)
-    return scale * total
-
-
-@numba.njit(**_JIT)
-def _s_cross(theta: float, tnext: float, k: float, b: float) -> float:
-    """s where tnext + k·exp(−b s) = theta (+inf if never)."""
-    q = (theta - tnext) / k
-    return -math.log(q) / b if q > 0.0 else math.inf
-
-
-@numba.njit(**_JIT)
-def _pl_night(ts: float, tnext: float, b: float, lo: float, hi: float, code: int,
-              p: np.ndarray, x: np.ndarray, w: np.ndarray, power_hi: bool) -> float:
-    """∫_0^1 r(Tn' + (Ts − Tn') exp(−b s)) ds: the night, s = hours after
-    sunset / night length, from the sunset temperature toward Tn'."""
-    k = ts - tnext
-    if k == 0.0:
-        return rate_scalar(code, p[0], p[1], p[2], p[3], p[4], p[5], tnext)
-    s_lo = _s_cross(lo, tnext, k, b)
-    s_hi = _s_cross(hi, tnext, k, b)
-    sa = max(0.0, s_hi if k > 0.0 else s_lo)
-    sb = min(1.0, s_lo if k > 0.0 else s_hi)
-    if not sb > sa:
-        return 0.0
-    rule = (1 if k > 0.0 else 2) if power_hi else 0   # the hot end, as in _branch
-    width = sb - sa
-    total = 0.0
-    for i in range(x.shape[1]):
-        t = tnext + k * math.exp(-b * (sa + width * x[rule, i]))
-        total += w[rule, i] * rate_scalar(code, p[0], p[1], p[2], p[3], p[4], p[5], t)
-    return width * total
-
-
-@numba.njit(**_JIT)
-def _pl_day(tn: float, tx: float, tnext: float, daylength: float, a: float, b: float,
-            c: float, lo: float, hi: float, code: int, p: np.ndarray, x: np.ndarray,
-            w: np.ndarray, power_hi: bool) -> float:
-    """Daily mean rate from sunrise to the next sunrise (Parton & Logan 1981)."""
-    if tn != tn or tx != tx or tnext != tnext or daylength != daylength:
-        return math.nan
-    y = 0.0 if daylength < 0.0 else (24.0 if daylength > 24.0 else daylength)
-    z = 24.0 - y
-    total = _pl_daytime(tn, tx, y, a, c, lo, hi, code, p, x, w, power_hi)
-    if z > 0.0:
-        ts = tn + (tx - tn) * math.sin(math.pi * (y - c) / (y + 2.0 * a))   # at sunset
-        total += z * _pl_night(ts, tnext, b, lo, hi, code, p, x, w, power_hi)
-    return total / 24.0
-
-
-# ------------------------------------------- Parton-Logan over a rate table
-# The fast path of suitmap.kernels.tables: the same day as _pl_day, but the
-# rate read from a 1-D table (linear interpolation), sin and asin by
-# polynomials (no calls in the loop).
-
-
-_S = tuple((-1.0) ** k / math.factorial(2 * k + 1) for k in range(10))  # Taylor of sin
-_S0, _S1, _S2, _S3, _S4, _S5, _S6, _S7, _S8, _S9 = _S
-
-
-@numba.njit(**_INLINE)
-def _sin(x: float) -> float:
-    """sin x for |x| <= π/2: Taylor series to x^19 (error < 3e-16), Horner."""
-    z = x * x
-    return x * (_S0 + z * (_S1 + z * (_S2 + z * (_S3 + z * (_S4 + z * (_S5 + z * (
-        _S6 + z * (_S7 + z * (_S8 + z * _S9)))))))))
-
-
-@numba.njit(**_INLINE)
-def _rate(t: float, rt: np.ndarray, rax: np.ndarray) -> float:
-    """Rate from the 1-D table: rax = (t0, 1/h, nodes - 2), rt = (r_k, r_k+1 - r_k)."""
-    u = (t - rax[0]) * rax[1]
-    u = u if u > 0.0 else 0.0
-    k = min(np.int64(u), np.int64(rax[2]))
-    return rt[2 * k] + (u - k) * rt[2 * k + 1]
-
-
-@numba.njit(**_JIT)
-def _pl_tabulated_range(a: np.ndarray, b: np.ndarray, c: np.ndarray, d: np.ndarray,
-                        out: np.ndarray, start: int, stop: int, rt: np.ndarray,
-                        rax: np.ndarray, fpar: np.ndarray, gx: np.ndarray, gw: np.ndarray,
-                        power_hi: bool) -> int:
-    """The Parton-Logan day of ``_pl_day`` over the tabulated rate: the day
-    sine split at π/2 and at the asin crossings of the limits; the night in
-    q = exp(−b n/Z), where T = Tn' + (Ts − Tn') q is linear, in two pieces
-    [e^−b, e^−b/2], [e^−b/2, 1] cut at the limits; Gauss-Legendre rows of
-    (gx, gw) as in ``quadrature_nodes``.  +inf where an input is outside
-    (rax[3], rax[4]) (to compute exactly), NaN for NaN input; returns the
-    number of +inf."""
-    lo, hi, pa, pb, pc = fpar[2], fpar[3], fpar[4], fpar[5], fpar[6]
-    eb, ebh = math.exp(-pb), math.exp(-0.5 * pb)
-    cnt = 0
-    for i in range(start, stop):
-        x, y, w, dl = np.float64(a[i]), np.float64(b[i]), np.float64(c[i]), np.float64(d[i])
-        yl = min(max(dl, 0.0), 24.0) if dl == dl else 0.0
-        g = yl + 2.0 * pa
-        p0 = -math.pi * pc / g
-        p1 = math.pi * (yl - pc) / g
-        am = y - x
-        am = am if am != 0.0 else 1e-300
-        s_lo = _asin(_unit((lo - x) / am))
-        s_hi = _asin(_unit((hi - x) / am))
-        lo_psi = s_lo if am > 0.0 else s_hi
-        hi_psi = s_hi if am > 0.0 else s_lo
-        ra = max(p0, lo_psi)                                  # rising part
-        rw = max(0.0, min(min(p1, _HALF_PI), hi_psi) - ra)
-        fa = max(math.pi - p1, lo_psi)                        # falling part, mirrored
-        fw = max(0.0, min(math.pi - max(p0, _HALF_PI), hi_psi) - fa)
-        k = x + am * _sin(p1 if p1 <= _HALF_PI else math.pi - p1) - w    # Ts − Tn'
-        k = k if k != 0.0 else 1e-300
-        qa = (lo - w) / k if k > 0.0 else (hi - w) / k
-        qb = (hi - w) / k if k > 0.0 else (lo - w) / k
-        n1a = max(eb, qa)
-        n1w = max(0.0, min(ebh, qb) - n1a)
-        n2a = max(ebh, qa)
-        n2w = max(0.0, min(1.0, qb) - n2a)
-        rd = 2 if power_hi else 0                   # nodes clustered at the hot end
-        rn = (2 if k > 0.0 else 1) if power_hi else 0
-        day = 0.0
-        night = 0.0
-        for j in range(gx.shape[1]):
-            u = gx[rd, j]
-            day += gw[rd, j] * (rw * _rate(x + am * _sin(ra + rw * u), rt, rax)
-                                + fw * _rate(x + am * _sin(fa + fw * u), rt, rax))
-            q1 = n1a + n1w * gx[rn, j]
-            q2 = n2a + n2w * gx[rn, j]
-            night += gw[rn, j] * (n1w * _rate(w + k * q1, rt, rax) / q1
-                                  + n2w * _rate(w + k * q2, rt, rax) / q2)
-        v = (g / math.pi * day + (24.0 - yl) / pb * night) / 24.0
-        inside = ((x >= rax[3]) & (x < rax[4]) & (y >= rax[3]) & (y < rax[4])
-                  & (w >= rax[3]) & (w < rax[4]))
-        v = (v if inside else math.inf) + 0.0 * (x + y + w + dl)
-        out[i] = v
-        cnt += v == math.inf
-    return cnt
 
 
 # ------------------------------------------------------------------------ loops
