@@ -57,7 +57,6 @@ import numba
 import numpy as np
 
 from . import development as dev
-from .development import _sin
 from .rates import rate_array
 from .tables import _BLOCK, _CHUNK, _EX_PL, _JIT, _TOL, _bilinear, _bin, _exact_block
 
@@ -65,6 +64,18 @@ _INLINE = dict(_JIT, inline="always")
 MAX_SUNRISE = 0.15   # rad: the longest sunrise arc taken as a chord (else quadrature)
 _EPS = 1e-3          # °C: closer arc ends use the rate at one end, not the chord
 _BIG = 1 << 40       # "first stored column" of a row that is 0 throughout
+
+
+_S32 = tuple(np.float32((-1.0) ** k / math.factorial(2 * k + 1)) for k in range(7))
+
+
+@numba.njit(**_INLINE)
+def _sin32(x: np.float32) -> np.float32:
+    """sin x for |x| <= π/2 in float32: Taylor series to x^13 (truncation
+    < 1e-9, below float32 rounding), Horner; vectorises."""
+    z = x * x
+    return x * (_S32[0] + z * (_S32[1] + z * (_S32[2] + z * (_S32[3] + z * (
+        _S32[4] + z * (_S32[5] + z * _S32[6]))))))
 
 
 # ------------------------------------------------------------------ lookups
@@ -121,45 +132,46 @@ def arcs_range(kind: int, a: np.ndarray, b: np.ndarray, c: np.ndarray, d: np.nda
     arc ends per block, then the lookups."""
     rows, tab, ptab, ntab, geo = arcs
     ctw = day[2]
-    two_a, cc, eb, f_first, inv_step = geo[0], geo[1], geo[2], geo[3], geo[4]
-    last, step, y0, y1 = geo[5], geo[7], geo[8], geo[9]
-    stride, side = np.int64(geo[6]), np.uint64(geo[10])
-    pi, inv_pi, inv24, inf = math.pi, 1.0 / math.pi, 1.0 / 24.0, math.inf
+    f32 = np.float32
+    two_a, sun0, sun1 = f32(geo[0]), f32(-math.pi * geo[1]), f32(math.pi * (geo[0] + geo[1]))
+    eb, f_first, inv_step, top = f32(geo[2]), f32(geo[3]), f32(geo[4]), f32(geo[5] + 0.5)
+    stride, step, y0, y1 = np.int32(geo[6]), f32(geo[7]), f32(geo[8]), f32(geo[9])
+    side = np.uint64(geo[10])
+    inv_pi, inv24, inf, zero = f32(1.0 / math.pi), 1.0 / 24.0, math.inf, f32(0.0)
     tsr = np.empty(_BLOCK, dtype=np.float32)
     tsk = np.empty(_BLOCK, dtype=np.float32)
     tss = np.empty(_BLOCK, dtype=np.float32)
     tse = np.empty(_BLOCK, dtype=np.float32)
-    p0v = np.empty(_BLOCK)
-    dph = np.empty(_BLOCK)
-    scale = np.empty(_BLOCK)
-    off = np.empty(_BLOCK, dtype=np.int64)
-    ok = np.empty(_BLOCK, dtype=np.bool_)
+    p0v = np.empty(_BLOCK, dtype=np.float32)
+    dph = np.empty(_BLOCK, dtype=np.float32)
+    scale = np.empty(_BLOCK, dtype=np.float32)
+    bad = np.empty(_BLOCK, dtype=np.float32)
+    off = np.empty(_BLOCK, dtype=np.int32)
     total = 0
     for b0 in range(start, stop, _BLOCK):
         b1 = min(b0 + _BLOCK, stop)
         aa, bb, cw, dd, oo = a[b0:b1], b[b0:b1], c[b0:b1], d[b0:b1], out[b0:b1]
         n = oo.size
-        for i in range(n):
-            x, y, w, yl = np.float64(aa[i]), np.float64(bb[i]), np.float64(cw[i]), \
-                np.float64(dd[i])
+        for i in range(n):              # float32, no bool stores: LLVM vectorises it
+            x, y, w, yl = f32(aa[i]), f32(bb[i]), f32(cw[i]), f32(dd[i])
             g = yl + two_a
-            ig = 1.0 / g
-            p0 = -pi * cc * ig
-            f1 = pi * (two_a + cc) * ig
+            ig = f32(1.0) / g
+            p0 = sun0 * ig
+            f1 = sun1 * ig
             amp = y - x
-            u = min(max((f1 - f_first) * inv_step + 0.5, 0.0), last + 0.5)
-            k = np.int64(u)
-            fk = f_first + step * k
-            ts = x + amp * _sin(f1)
-            tsr[i] = x + amp * _sin(p0)
-            tsk[i] = x + amp * _sin(fk)
+            k = np.int32(min(max((f1 - f_first) * inv_step + f32(0.5), zero), top))
+            fk = f_first + step * f32(k)
+            ts = x + amp * _sin32(f1)
+            tsr[i] = x + amp * _sin32(p0)
+            tsk[i] = x + amp * _sin32(fk)
             tss[i] = ts
             tse[i] = w + (ts - w) * eb
             p0v[i] = p0
             dph[i] = f1 - fk
             scale[i] = g * inv_pi
-            off[i] = stride * (k + 1)                    # plane 0 is Q
-            ok[i] = (amp >= 0.0) & (yl >= y0) & (yl <= y1)
+            off[i] = stride * (k + np.int32(1))              # plane 0 is Q
+            ok = (amp >= zero) & (yl >= y0) & (yl <= y1)
+            bad[i] = zero if ok else f32(1.0)
         cnt = 0
         for i in range(n):
             x, y = np.float32(aa[i]), np.float32(bb[i])
@@ -171,13 +183,14 @@ def arcs_range(kind: int, a: np.ndarray, b: np.ndarray, c: np.ndarray, d: np.nda
             k3, f3 = _locate(t3, day)
             k4, f4 = _locate(t4, day)
             q = _plane(kx, fx, ky, fy, rows, tab, np.int64(0))
-            kv = _plane(kx, fx, k2, f2, rows, tab, off[i])
+            kv = _plane(kx, fx, k2, f2, rows, tab, np.int64(off[i]))
             nv = _bilinear(ntab, np.uint64(4) * (k3 * side + k4), f3, f4)
             m0 = _mean_rate(kx, fx, x, k1, f1, t1, ptab, ctw)
             m1 = _mean_rate(k2, f2, t2, k3, f3, t3, ptab, ctw)
-            arc = 2.0 * np.float64(q) - p0v[i] * m0 - (np.float64(kv) + dph[i] * m1)
-            v = (scale[i] * arc + (24.0 - np.float64(dd[i])) * np.float64(nv)) * inv24
-            v = (v if (abs(v) < inf) & ok[i] else inf) + 0.0 * (x + y + cw[i] + dd[i])
+            arc = 2.0 * np.float64(q) - np.float64(p0v[i]) * m0 \
+                - (np.float64(kv) + np.float64(dph[i]) * m1)
+            v = (np.float64(scale[i]) * arc + (24.0 - np.float64(dd[i])) * np.float64(nv)) * inv24
+            v = (v if (abs(v) < inf) & (bad[i] == zero) else inf) + 0.0 * (x + y + cw[i] + dd[i])
             oo[i] = v            # NaN in, NaN out; +inf: computed exactly below
             cnt += v == inf
         if cnt > 0 and kind >= 0:
