@@ -128,3 +128,28 @@ def test_chord_between_planes_is_within_its_stated_error(model):
         qv = quad(lambda p: r(tn + amp * math.sin(p)), 0.0, math.pi / 2, limit=400)[0]
         peak = max(r(t) for t in np.linspace(-10, 50, 601))
         assert abs(got - ref) <= 2e-4 * max(qv, 0.01 * peak), (model, tn, amp, phi_k, phi)
+
+
+def test_long_sunrise_arc_uses_per_day_quadrature():
+    # Invented coefficients (within -3a <= c <= a) whose sunrise arc p0 =
+    # πc/(Y + 2a) exceeds MAX_SUNRISE: the chord would not be accurate, so
+    # the build takes the quadrature strategy, still within 1e-3 of the
+    # exact Parton & Logan (1981) day.
+    from suitmap.kernels.development import daily_development
+    from suitmap.kernels.tables import development_table
+    co = dict(a=1.0, b=2.0, c=0.9)
+    assert math.pi * 0.9 / (14.0 + 2.0) > arcs.MAX_SUNRISE
+    table = development_table("lactin2", CURVES["lactin2"], diurnal="parton_logan",
+                              daylength_range=(10.0, 14.0), t_range=(-5.0, 45.0),
+                              coefficients=co)
+    assert table.strategy == "quadrature"
+    rng = np.random.default_rng(8)
+    tn = rng.uniform(0, 30, 3000)
+    tx = tn + rng.gamma(3.0, 3.0, tn.size)
+    tw = tn + rng.normal(0, 2, tn.size)
+    y = rng.uniform(10.0, 14.0, tn.size)
+    exact = daily_development(tn, tx, "lactin2", CURVES["lactin2"], diurnal="parton_logan",
+                              daylength=y, tmin_next=tw, coefficients=co)
+    got = table.evaluate(tn, tx, tmin_next=tw, daylength=y)
+    big = exact > 0.01 * exact.max()
+    assert np.max(np.abs(got - exact)[big] / exact[big]) <= 1e-3
