@@ -1,7 +1,7 @@
 """Compiled per-day parts of the daily degree-day methods.
 
 Small numba functions, inlined into the loops of ``suitmap.kernels.degree_days``
-(and of the modules that import them from there): a vectorisable arcsine,
+(and of the modules that import them from there): a vectorisable sine and arcsine,
 and the (h, v, a) of a sine, triangle or constant day — h the degree-days
 with the horizontal cutoff, v with the vertical cutoff, a the degree-days
 above the upper threshold.  Written without early returns (every value
@@ -55,6 +55,20 @@ def _fma(typingctx, a, b, c):
     def codegen(context, builder, signature, args):
         return builder.fma(*args)
     return sig, codegen
+
+
+# Taylor series of sin, sum_k (-1)^k x^(2k+1)/(2k+1)!, k = 0..9
+_SIN = tuple((-1.0) ** k / math.factorial(2 * k + 1) for k in range(10))
+_S0, _S1, _S2, _S3, _S4, _S5, _S6, _S7, _S8, _S9 = _SIN
+
+
+@numba.njit(**_INLINE)
+def _sin(x: float) -> float:
+    """sin x for |x| <= pi/2, vectorisable: the Taylor series to x^19
+    (remainder <= (pi/2)^21/21! = 2.6e-16), Horner's rule."""
+    z = x * x
+    return x * (_S0 + z * (_S1 + z * (_S2 + z * (_S3 + z * (_S4 + z * (_S5 + z * (
+        _S6 + z * (_S7 + z * (_S8 + z * _S9)))))))))
 
 
 @numba.njit(**_INLINE)

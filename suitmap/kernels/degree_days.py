@@ -26,7 +26,7 @@ from numpy.typing import ArrayLike
 # degree_days_diurnal, season, tables): keep these names.
 from ._day_parts import (  # noqa: F401
     _HALF_PI, _HORIZONTAL, _INLINE, _INTERMEDIATE, _INV_PI, _JIT, _Q, _VERTICAL, _asin, _finish,
-    _halves, _point_parts, _settle, _sine_gv, _sine_parts, _triangle_parts, _unit_clip)
+    _halves, _sin, _point_parts, _settle, _sine_gv, _sine_parts, _triangle_parts, _unit_clip)
 
 __all__ = ["METHODS", "CUTOFFS", "METHOD_CODES", "CUTOFF_CODES", "degree_days",
            "degree_days_block", "daily_degree_days_along_time"]

@@ -25,7 +25,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from .degree_days import (CUTOFFS, _asin, _check_code, _finish, _float_dtype, _output_array,
-                          _point_parts, _thresholds, _unit_clip)
+                          _point_parts, _sin, _thresholds, _unit_clip)
 from .diurnal import PARTON_LOGAN_150CM
 
 __all__ = ["degree_days_parton_logan", "degree_days_parton_logan_block"]
@@ -81,19 +81,6 @@ def _ln(x: float) -> float:
     return e * _LN2 + 2.0 * z * p
 
 
-# sin u for |u| <= pi/2: Taylor series sum_k (-1)^k u^(2k+1)/(2k+1)! to k = 9
-# (remainder <= (pi/2)^21/21! = 2.6e-16), Horner; vectorisable like _ln.
-_SIN = tuple((-1.0) ** k / math.factorial(2 * k + 1) for k in range(10))
-_S0, _S1, _S2, _S3, _S4, _S5, _S6, _S7, _S8, _S9 = _SIN
-
-
-@numba.njit(**_INLINE)
-def _sin_half(u: float) -> float:
-    z = u * u
-    return u * (_S0 + z * (_S1 + z * (_S2 + z * (_S3 + z * (_S4 + z * (_S5 + z * (
-        _S6 + z * (_S7 + z * (_S8 + z * _S9)))))))))
-
-
 @numba.njit(**_INLINE)
 def _sin_cos(p: float) -> tuple[float, float]:
     """(sin p, cos p) for p in [-pi/2, 3pi/2], reduced to [-pi/2, pi/2]:
@@ -101,7 +88,7 @@ def _sin_cos(p: float) -> tuple[float, float]:
     u = p if p <= _HALF_PI else math.pi - p
     v = _HALF_PI - p                         # in [-pi, pi]
     v = (-math.pi - v) if v < -_HALF_PI else ((math.pi - v) if v > _HALF_PI else v)
-    return _sin_half(u), _sin_half(v)
+    return _sin(u), _sin(v)
 
 
 @numba.njit(**_INLINE)

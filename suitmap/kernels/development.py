@@ -27,8 +27,8 @@ from numpy.typing import ArrayLike
 
 from .development_day import _JIT, _pl_day, _sine_day
 from .development_day import (  # noqa: F401  (re-exported: tables*.py call them as dev.<name>)
-    _HALF_PI, _INLINE, _S, _S0, _S1, _S2, _S3, _S4, _S5, _S6, _S7, _S8, _S9, _branch, _pl_daytime,
-    _asin, _pl_night, _pl_tabulated_range, _rate, _s_cross, _sin, _unit)
+    _HALF_PI, _INLINE, _asin, _branch, _pl_daytime, _pl_night, _pl_tabulated_range, _rate,
+    _s_cross, _sin, _unit)
 from .diurnal import PARTON_LOGAN_150CM
 from .rates import model_code, pack_params, rate_limits, rate_scalar  # noqa: F401
 

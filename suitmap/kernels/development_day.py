@@ -23,7 +23,7 @@ import math
 import numba
 import numpy as np
 
-from .degree_days import _asin
+from .degree_days import _asin, _sin
 from .rates import rate_scalar
 
 _HALF_PI = 0.5 * math.pi
@@ -145,19 +145,7 @@ def _pl_day(tn: float, tx: float, tnext: float, daylength: float, a: float, b: f
 # ------------------------------------------- Parton-Logan over a rate table
 # The fast path of suitmap.kernels.tables: the same day as _pl_day, but the
 # rate read from a 1-D table (linear interpolation), sin and asin by
-# polynomials (no calls in the loop).
-
-
-_S = tuple((-1.0) ** k / math.factorial(2 * k + 1) for k in range(10))  # Taylor of sin
-_S0, _S1, _S2, _S3, _S4, _S5, _S6, _S7, _S8, _S9 = _S
-
-
-@numba.njit(**_INLINE)
-def _sin(x: float) -> float:
-    """sin x for |x| <= π/2: Taylor series to x^19 (error < 3e-16), Horner."""
-    z = x * x
-    return x * (_S0 + z * (_S1 + z * (_S2 + z * (_S3 + z * (_S4 + z * (_S5 + z * (
-        _S6 + z * (_S7 + z * (_S8 + z * _S9)))))))))
+# polynomials (degree_days._sin, _asin; no calls in the loop).
 
 
 @numba.njit(**_INLINE)
