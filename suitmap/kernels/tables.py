@@ -39,7 +39,8 @@ from . import development as dev
 from .degree_days import CUTOFFS, METHODS, degree_days_block
 from .degree_days import _fill_range as _dd_fill_range
 from .rates import model_code, pack_params, rate_limits
-from .tables_grid import _graded_axis, _locator  # noqa: F401  (tables_daylength, _pl_arcs)
+from ._lanes import LANES, LATTICE_BITS, halves_lanes, one_lanes
+from .tables_grid import _graded_axis, _lattice_grid, _locator  # noqa: F401  (tables_daylength)
 
 __all__ = ["DailyTable", "degree_day_table", "development_table", "T_RANGE"]
 
@@ -54,12 +55,14 @@ _BLOCK = 128                  # values per fast pass; the exact pass scans one b
 _PARALLEL_MIN = 65536
 _JIT = dict(cache=True, nogil=True, error_model="numpy")  # nogil: dask threads run kernels at once
 _INLINE = dict(_JIT, inline="always")
+_RSHIFT, _RMASK = LATTICE_BITS, (1 << LATTICE_BITS) - 1
 
 
 # ------------------------------------------------------------------ lookups
-# LLVM emits no gathers for this CPU, so the loops are scalar, in float32
-# (6e-8 relative) and short: clamp, lattice bin, per bin (t_k, 1/width) and
-# unsigned cell offsets, one 16-byte read.  A border of +inf cells catches
+# The loops run LANES values at a time as LLVM vector code with gathers
+# (``_lanes``; measured 2 x the scalar loop), the rest scalar, with the same
+# float32 arithmetic (6e-8 relative): clamp, lattice bin, one locator read
+# per axis, the cell's four coefficients.  A border of +inf cells catches
 # values below t0 or from t1 up; +inf marks failed cells too and means
 # "compute exactly"; NaN input gives NaN through 0 * (x + y).
 
@@ -67,10 +70,23 @@ _INLINE = dict(_JIT, inline="always")
 @numba.njit(**_INLINE)
 def _bin(t: np.float32, ax: np.ndarray) -> tuple[np.float32, np.uint64]:
     """Clamped temperature and its lattice bin; ax = (t0 - dj, t1 + dj, 1/dj),
-    float32."""
+    float32 (the Parton-Logan arc tables' locator)."""
     tc = t if t > ax[0] else ax[0]              # NaN -> border; masked by the caller
     tc = tc if tc < ax[1] else ax[1]
     return tc, np.uint64((tc - ax[0]) * ax[2])
+
+
+@numba.njit(**_INLINE)
+def _cell(t: np.float32, ax: np.ndarray, loc: np.ndarray) -> tuple[np.float32, np.int64]:
+    """Fraction in its cell (lattice units) and cell part of the offset of t
+    on a lattice locator (``tables_grid._lattice_grid``); ``_lanes._Axis.cell``
+    is the same in vector code."""
+    tc = t if t > ax[0] else ax[0]              # NaN -> border; masked by the caller
+    tc = tc if tc < ax[1] else ax[1]
+    u = (tc - ax[0]) * ax[2]
+    j = np.int32(u)
+    p = np.int64(loc[j])
+    return u - np.float32(np.int64(j) - (p & _RMASK)), p >> _RSHIFT
 
 
 @numba.njit(**_INLINE)
@@ -101,19 +117,18 @@ def _exact_block(kind: int, a: np.ndarray, b: np.ndarray, c: np.ndarray, d: np.n
 def _one_range(a: np.ndarray, b: np.ndarray, out: np.ndarray, start: int, stop: int,
                grid: tuple) -> int:
     """out[start:stop] = the table at (a, b); returns how many +inf."""
-    ax, tw, offr, offc, tab = grid
+    ax, locr, locc, tab = grid
+    cnt, i = 0, start
+    while i + LANES <= stop:
+        cnt += one_lanes(a, b, out, i, ax, locr, locc, tab)
+        i += LANES
     zero, inf = np.float32(0.0), np.float32(math.inf)
-    # slices, and a loop from 0: LLVM proves the indices non-negative
-    aa, bb, oo = a[start:stop], b[start:stop], out[start:stop]
-    cnt = 0
-    for i in range(oo.size):
-        x, y = np.float32(aa[i]), np.float32(bb[i])
-        xc, jx = _bin(x, ax)
-        yc, jy = _bin(y, ax)
-        fx = (xc - tw[2 * jx]) * tw[2 * jx + 1]
-        fy = (yc - tw[2 * jy]) * tw[2 * jy + 1]
-        v = _bilinear(tab, offr[jx] + offc[jy], fx, fy) + zero * (x + y)
-        oo[i] = v
+    for k in range(i, stop):
+        x, y = np.float32(a[k]), np.float32(b[k])
+        fx, kx = _cell(x, ax, locr)
+        fy, ky = _cell(y, ax, locc)
+        v = _bilinear(tab, 4 * (kx + ky), fx, fy) + zero * (x + y)
+        out[k] = v
         cnt += v == inf
     return cnt
 
@@ -123,21 +138,20 @@ def _halves_range(a: np.ndarray, b: np.ndarray, c: np.ndarray, out: np.ndarray, 
                   stop: int, grid: tuple) -> int:
     """out[start:stop] = the mean of the table at (a, b) and at (c, b): two
     half-days (Tmin, Tmax) and (next Tmin, Tmax); returns how many +inf."""
-    ax, tw, offr, offc, tab = grid
+    ax, locr, locc, tab = grid
+    cnt, i = 0, start
+    while i + LANES <= stop:
+        cnt += halves_lanes(a, b, c, out, i, ax, locr, locc, tab)
+        i += LANES
     zero, half, inf = np.float32(0.0), np.float32(0.5), np.float32(math.inf)
-    aa, bb, cc, oo = a[start:stop], b[start:stop], c[start:stop], out[start:stop]
-    cnt = 0
-    for i in range(oo.size):
-        x, y, w = np.float32(aa[i]), np.float32(bb[i]), np.float32(cc[i])
-        xc, jx = _bin(x, ax)
-        yc, jy = _bin(y, ax)
-        wc, jw = _bin(w, ax)
-        fx = (xc - tw[2 * jx]) * tw[2 * jx + 1]
-        fy = (yc - tw[2 * jy]) * tw[2 * jy + 1]
-        fw = (wc - tw[2 * jw]) * tw[2 * jw + 1]
-        v = half * (_bilinear(tab, offr[jx] + offc[jy], fx, fy)
-                    + _bilinear(tab, offr[jw] + offc[jy], fw, fy)) + zero * (x + y + w)
-        oo[i] = v
+    for k in range(i, stop):
+        x, y, w = np.float32(a[k]), np.float32(b[k]), np.float32(c[k])
+        fx, kx = _cell(x, ax, locr)
+        fy, ky = _cell(y, ax, locc)
+        fw, kw = _cell(w, ax, locr)
+        v = half * (_bilinear(tab, 4 * (kx + ky), fx, fy)
+                    + _bilinear(tab, 4 * (kw + ky), fw, fy)) + zero * (x + y + w)
+        out[k] = v
         cnt += v == inf
     return cnt
 
@@ -174,14 +188,17 @@ def _run_parallel(mode: int, kind: int, a: np.ndarray, b: np.ndarray, c: np.ndar
 
 # ------------------------------------------------------------------ building
 _NONE32 = np.zeros(1, dtype=np.float32)
-_NOINT = np.zeros(1, dtype=np.uint64)
+_NOI32 = np.zeros(1, dtype=np.int32)
 _NO2D = dev.quadrature_nodes(1)[0]              # read-only, as the real nodes: one type
 _NO_KERN = (np.zeros(7), np.zeros(4, np.int64), np.zeros(6), _NO2D, _NO2D, _NO2D, _NO2D)
 
 
-def _checked_table(exact, nodes: np.ndarray, grid: tuple, sub: int, guard=None,
-                   symmetric: bool = True) -> tuple[np.ndarray, dict]:
-    """Coefficient table of f(x, y) on nodes × nodes, failing cells marked.
+def _checked_table(exact, nodes: np.ndarray, dj: float, sub: int, guard=None,
+                   symmetric: bool = True) -> tuple[np.ndarray, tuple, dict]:
+    """Coefficient table of f(x, y) on nodes × nodes (lattice step dj),
+    failing cells marked: (coefficients per unit cell fraction, for
+    ``_locator``; the lattice grid of ``_cell``, which the check runs
+    through; stats).
 
     Symmetric f (f(Tmin, Tmax) = f(Tmax, Tmin)): every cell with y index >=
     x index is checked at sub × sub interior points; a cell where |table -
@@ -210,7 +227,8 @@ def _checked_table(exact, nodes: np.ndarray, grid: tuple, sub: int, guard=None,
     y = (nodes[cj, None] + width[cj, None] * oy).reshape(-1)
     ex = exact(x, y)
     fast = np.empty(x.size)                       # the table alone, no exact fallback
-    _run_parallel(_ONE, -1, x, y, x, x, fast, (*grid, tab.reshape(-1)), _NO_KERN)
+    _run_parallel(_ONE, -1, x, y, x, x, fast, _lattice_grid(nodes, dj, tab, LATTICE_BITS),
+                  _NO_KERN)
     err = np.abs(fast - ex)
     fail = err > _TOL * np.maximum(np.abs(ex), _FLOOR * peak)
     if guard is not None:
@@ -223,7 +241,7 @@ def _checked_table(exact, nodes: np.ndarray, grid: tuple, sub: int, guard=None,
     stats = dict(peak=peak, max_abs_error=float(err[good].max(initial=0.0)),
                  max_rel_error=float((err[big] / np.abs(ex[big])).max(initial=0.0)),
                  marked_fraction=float(bad.mean()))
-    return tab.reshape(-1), stats
+    return tab.reshape(-1), _lattice_grid(nodes, dj, tab, LATTICE_BITS), stats
 
 
 def _flat(x, shape: tuple[int, ...], what: str) -> np.ndarray:
@@ -266,8 +284,8 @@ class DailyTable:
     def __init__(self, kind: str, spec: dict, strategy: str) -> None:
         self.kind, self.spec, self.strategy = kind, spec, strategy
         self.mode, self.exact_kind, self.nodes = _ONE, -1, 0
-        # (axis, (t_k, 1/width) per bin, row and column offsets, coefficients)
-        self.grid = (_NONE32, _NONE32, _NOINT, _NOINT, _NONE32)
+        # (axis, row and column lattice locators, coefficients): _lattice_grid
+        self.grid = (_NONE32, _NOI32, _NOI32, _NONE32)
         # fpar = (lower, upper, lo, hi, a, b, c), ipar = (method, cutoff, code,
         # power_hi), packed rate parameters, exact nodes qx, qw, fast nodes gx, gw
         self.kern = _NO_KERN
@@ -374,7 +392,6 @@ def _build_degree_days(lower: float, upper: float, method: str, cutoff: str,
         return table
     nodes, dj = _graded_axis(t_range, [lower, upper], opts["h_min"], opts["h_max"],
                              opts["grade"])
-    grid = _locator(nodes, dj)
     single = method.replace("double", "single")
 
     def exact(cut: str):
@@ -383,7 +400,7 @@ def _build_degree_days(lower: float, upper: float, method: str, cutoff: str,
     cut = cutoff if math.isfinite(upper) else "horizontal"     # all equal without U
     mode = _ONE if method == single else _HALVES
     if method == single or cut != "intermediate":
-        tab0, st = _checked_table(exact(cut), nodes, grid, opts["sub"])
+        _, grid, st = _checked_table(exact(cut), nodes, dj, opts["sub"])
     else:   # whole day max(V, H - A) = H - A if so in both half-days: a table of
         # H - A (A = DD above U); cells where it is below V are computed exactly
         def h_minus_a(x, y):
@@ -393,9 +410,9 @@ def _build_degree_days(lower: float, upper: float, method: str, cutoff: str,
         def guard(x, y, w):    # where H - A < V a half-day may need the clamp
             return w - exact("vertical")(x, y) >= -_TOL * _FLOOR * (upper - lower)
 
-        tab0, st = _checked_table(h_minus_a, nodes, grid, opts["sub"], guard)
+        _, grid, st = _checked_table(h_minus_a, nodes, dj, opts["sub"], guard)
     table.mode, table.exact_kind, table.nodes = mode, _EX_DD, nodes.size
-    table.grid = (*grid, tab0)
+    table.grid = grid
     ipar = np.array([METHODS.index(method), CUTOFFS.index(cutoff), 0, 0])
     table.kern = (np.array([lower, upper, 0, 0, 0, 0, 0.0]), ipar, *_NO_KERN[2:])
     table.__dict__.update(st)
@@ -429,10 +446,9 @@ def _build_development(model: str, params: dict, diurnal: str = "sine",
         return dev.development_block(x, y, code, packed, (lo, hi), diurnal=d, n_nodes=n_nodes)
 
     nodes, dj = _graded_axis(t_range, [lo, hi], opts["h_min"], opts["h_max"], opts["grade"])
-    grid = _locator(nodes, dj)
-    tab, st = _checked_table(exact, nodes, grid, opts["sub"])
+    _, grid, st = _checked_table(exact, nodes, dj, opts["sub"])
     table.mode, table.exact_kind, table.nodes = _ONE, _EX_SINE, nodes.size
-    table.grid, table.kern = (*grid, tab), (*par, _NO2D, _NO2D)
+    table.grid, table.kern = grid, (*par, _NO2D, _NO2D)
     table.__dict__.update(st)
     return table
 

@@ -30,7 +30,7 @@ import numpy as np
 from . import _pl_arcs as arcs
 from . import development as dev
 from .rates import MODELS, model_code, pack_params, rate_array, rate_limits
-from .tables import (_CHUNK, _EX_PL, _FLOOR, _JIT, _NOINT, _NONE32, _PARALLEL_MIN, _PLQ,
+from .tables import (_CHUNK, _EX_PL, _FLOOR, _JIT, _PARALLEL_MIN, _PLQ,
                      DailyTable, _checked_table, _exact_block, _graded_axis, _grid_options,
                      _locator)
 
@@ -163,7 +163,7 @@ def _quadrature_table(spec: dict, code: int, packed: np.ndarray, lo: float, hi: 
     r = rate_array(nodes, code, packed, parallel=False)
     rt = np.stack([r, np.append(np.diff(r), 0.0)], axis=1).reshape(-1).astype(np.float32)
     rax = np.array([nodes[0], 1.0 / dj, nodes.size - 2, t_range[0], t_range[1]], np.float32)
-    table.grid = (rax, rt, _NOINT, _NOINT, _NONE32)
+    table.grid = (rax, rt)
     n_gauss = opts["n_gauss"] or (10 if MODELS[code] == "sharpe_schoolfield" else 8)
     table.kern = (*kern[:5], *dev.quadrature_nodes(int(n_gauss)))
     table.mode, table.nodes = _PLQ, nodes.size
@@ -215,7 +215,7 @@ def _daylength_table(spec: dict, code: int, packed: np.ndarray, lo: float, hi: f
     def night(ts, te):
         return _night_exact(np.ascontiguousarray(ts), np.ascontiguousarray(te), kern)
 
-    ntab, nst = _checked_table(night, nodes, loc, opts["sub"], symmetric=False)
+    ntab, _, nst = _checked_table(night, nodes, dj, opts["sub"], symmetric=False)
     peak = float(rate_array(nodes, code, packed, parallel=False).max())
     phases = arcs.plane_phases(phi, float(opts["plane_step"]))
     phis = np.concatenate([[_HP], phases])                     # plane 0: the maximum, Q

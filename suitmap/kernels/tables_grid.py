@@ -73,3 +73,46 @@ def _locator(nodes: np.ndarray, dj: float) -> tuple[np.ndarray, ...]:
     tw = np.stack([tk, iw], axis=1).reshape(-1).astype(np.float32)
     return (ax, tw,
             (4 * side * kk).astype(np.uint64), (4 * kk).astype(np.uint64))
+
+
+def _lattice_grid(nodes: np.ndarray, dj: float, tab: np.ndarray, bits: int
+                  ) -> tuple[np.ndarray, ...]:
+    """(ax, locr, locc, tab') for ``tables._cell`` and ``_lanes``: the
+    locator and the coefficient table ``tab`` of ``_locator`` recast in
+    lattice units.
+
+    Per lattice bin j one int32, (cell << bits) | r: its cell k' in the
+    bordered table (rows: k' (cells + 2), columns: k'; coefficients at 4 ×
+    the sum) and r = j − the cell's first bin, so the fraction in the cell,
+    in lattice units, is u − (j − r), u = (t − ax[0]) / dj: one read per
+    axis instead of three.  The coefficients (v00, dv/dx, dv/dy, d²v/dxdy
+    per unit fraction) are divided by the cell widths in bins to match.
+    Raises ValueError for cells wider than 2^bits − 1 bins or a table too
+    large for 32-bit entries.
+    """
+    ax, _, _, offc = _locator(nodes, dj)
+    lat = np.rint((nodes - nodes[0]) / dj).astype(np.int64)
+    width = np.diff(lat)
+    side = nodes.size + 1
+    if width.max(initial=1) >= 1 << bits:
+        raise ValueError(f"table cells up to {int(width.max())} lattice steps wide; "
+                         f"keep h_max <= {(1 << bits) - 1} x h_min")
+    if side * side >= 1 << (31 - bits):
+        raise ValueError(f"{nodes.size} nodes per axis is too many for a lookup table "
+                         f"(at most {int(math.isqrt((1 << (31 - bits)) - 1)) - 1}); "
+                         "raise h_min or grade")
+    nb = int(lat[-1])
+    first = np.concatenate([[0], lat[np.searchsorted(lat, np.arange(nb), side="right") - 1] + 1,
+                            [nb + 1, nb + 2]])          # border bins: their own cells
+    r = np.arange(nb + 3) - first
+    kk = (offc // 4).astype(np.int64)                   # k' per bin, 0 on the border
+    locr = ((kk * side) << bits | r).astype(np.int32)
+    locc = (kk << bits | r).astype(np.int32)
+    w = np.ones(side, dtype=np.float64)
+    w[1:-1] = width                                     # border cells: +inf, width unused
+    t = tab.reshape(side, side, 4).astype(np.float64)
+    t[..., 1] /= w[:, None]
+    t[..., 2] /= w[None, :]
+    t[..., 3] /= w[:, None] * w[None, :]
+    t[..., 1:][~np.isfinite(t[..., 0])] = 0.0
+    return ax, locr, locc, t.astype(np.float32).reshape(-1)
