@@ -9,13 +9,16 @@ out), with one of three strategies, chosen by measurement
   exact value at the nodes of a graded (Tmin, Tmax) grid, bilinear
   interpolation.  Nodes lie on every threshold, so the kinks of the daily
   value fall on grid lines and never inside a cell, and are denser next to
-  them (spacing ``grade`` × distance, from ``h_min`` to ``h_max``).  Each
-  cell stores its four coefficients (float32, one 16-byte read).  At build
-  each cell is checked at ``sub``² interior points against the exact kernel;
-  cells that miss |error| <= 5e-4 max(|exact|, 1 % of the peak), and values
-  outside ``t_range``, are computed with the exact kernel.
+  them (spacing ``grade`` × distance, from ``h_min`` to ``h_max``).  A value
+  reads one 32-bit locator entry per axis and its cell's four float32
+  coefficients (``tables_grid._lattice_grid``), sixteen values at a time
+  with gathers (``_lanes``).  At build each cell is checked at ``sub``²
+  interior points against the exact kernel; cells that miss |error| <= 5e-4
+  max(|exact|, 1 % of the peak), and values outside ``t_range``, are
+  computed with the exact kernel.
 * ``"closed_form"`` (every degree-day method by default): the vectorised
-  closed forms of ``degree_days`` are faster than a lookup on AVX-512.
+  closed forms of ``degree_days`` are exact and, measured, as fast as a
+  lookup or faster (benchmarks/README.md).
 * development with the Parton-Logan day: ``suitmap.kernels.tables_daylength``
   (tables over day length, or per-day quadrature over a rate table).
 
