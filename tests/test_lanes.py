@@ -1,10 +1,12 @@
-"""Tests of the vector table lookups (suitmap.kernels._lanes) and the lattice
-tables they read (suitmap.kernels.tables_grid._lattice_grid).
+"""Tests of the vector table lookups (suitmap.kernels._lanes, _lanes_pl) and
+the lattice tables they read (suitmap.kernels.tables_grid._lattice_grid).
 
 The lookup must be the bilinear interpolant of the tabulated node values,
 Press, W.H. et al. (2007) Numerical Recipes, 3rd ed., eq. 3.6.5, computed
-here independently in float64 numpy; and the vector path (16 values at a
-time) must give the same bits as the scalar loop that takes the remainder.
+here independently in float64 numpy; and the vector paths (16 values at a
+time, for the (Tmin, Tmax) tables and the Parton-Logan day-length tables)
+must give the same bits as the scalar loops that take the remainder.  Their
+accuracy against the exact kernels is tested in tests/test_tables.py.
 """
 
 from __future__ import annotations
@@ -101,3 +103,29 @@ def test_lattice_grid_limits():
     nodes = np.arange(3000, dtype=np.float64)
     with pytest.raises(ValueError, match="too many"):
         _lattice_grid(nodes, 1.0, np.zeros(1, dtype=np.float32), LATTICE_BITS)   # before use
+
+
+@pytest.fixture(scope="module")
+def pl_table():
+    # the day lengths of 30-44 deg N (Forsythe et al. 1995); a narrow range keeps it short
+    return development_table("lactin2", CURVES["lactin2"], diurnal="parton_logan",
+                             daylength_range=(8.8, 15.6), t_range=(-5.0, 45.0))
+
+
+@pytest.mark.parametrize("dtype", [np.float32, np.float64])
+def test_daylength_tables_vector_and_scalar_paths_give_the_same_bits(pl_table, dtype):
+    from suitmap.kernels import _pl_arcs
+    a, b, c = (x.astype(dtype) for x in inputs(3000, seed=9))
+    d = np.random.default_rng(2).uniform(8.0, 16.5, a.size).astype(dtype)   # some outside
+    day, arcs = pl_table.arcs[0], pl_table.arcs[1:]
+    vec = np.empty(a.size)
+    n_vec = _pl_arcs.arcs_range(-1, a, b, c, d, vec, 0, a.size, day, arcs, pl_table.kern)
+    sca = np.empty(a.size)
+    n_sca = 0
+    for s in range(0, a.size, LANES - 1):                 # shorter than LANES: all scalar
+        n_sca += _pl_arcs.arcs_range(-1, a, b, c, d, sca, s, min(a.size, s + LANES - 1), day,
+                                     arcs, pl_table.kern)
+    np.testing.assert_array_equal(vec, sca)
+    assert n_vec == n_sca == int(np.isinf(vec).sum()) > 0     # outside the tables: +inf
+    assert np.isnan(vec).sum() == (np.isnan(a) | np.isnan(b) | np.isnan(c)).sum()
+    assert np.isfinite(vec).mean() > 0.4         # and most of the rest from the tables

@@ -62,13 +62,14 @@ def _gather(builder: ir.IRBuilder, base: ir.Value, index: ir.Value, ety: ir.Type
     hardware gathers take them); base is a typed pointer to ety."""
     ptrs = builder.gep(base, [index], source_etype=ety)
     ptrs.type = _vec(base.type)             # llvmlite types a vector GEP as a scalar pointer
-    name = f"llvm.masked.gather.v{LANES}{'f32' if ety == _F32 else 'i' + str(ety.width)}" \
-        f".v{LANES}p0"
+    tag = "f32" if ety == _F32 else ("f64" if ety == _F64 else f"i{ety.width}")
+    name = f"llvm.masked.gather.v{LANES}{tag}.v{LANES}p0"
     fn = builder.module.globals.get(name)
     if fn is None:
         fn = ir.Function(builder.module, ir.FunctionType(
             _vec(ety), [_vec(base.type), _I32, _vec(_I1), _vec(ety)]), name)
-    align = ir.Constant(_I32, ety.width // 8 if isinstance(ety, ir.IntType) else 4)
+    align = ir.Constant(_I32, ety.width // 8 if isinstance(ety, ir.IntType) else (
+        8 if ety == _F64 else 4))
     return builder.call(fn, [ptrs, align, _const(_I1, 1), ir.Constant(_vec(ety), None)])
 
 

@@ -39,7 +39,8 @@ points against ``development._branch`` (N as in ``_checked_table``):
 |error| <= 5e-4 max(|exact|, the arc that adds 1 % of the peak rate to the
 day, 24π/g × 1 % of the peak).  Failing
 cells, crossed days (Tx < Tn), Tx − Tn > max_range, temperatures outside
-the table and day lengths outside the range are computed exactly.
+the table and day lengths outside the range are computed exactly.  The
+lookups run sixteen values at a time with gathers (``_lanes_pl``).
 No I/O.
 
 References
@@ -58,12 +59,15 @@ import numpy as np
 
 from . import development as dev
 from .rates import rate_array
+from ._lanes import LANES
+from ._lanes_pl import FIELDS, arcs_lanes
 from .tables import _BLOCK, _CHUNK, _EX_PL, _JIT, _TOL, _bilinear, _bin, _exact_block
 
 _INLINE = dict(_JIT, inline="always")
 MAX_SUNRISE = 0.15   # rad: the longest sunrise arc taken as a chord (else quadrature)
 _EPS = 1e-3          # °C: closer arc ends use the rate at one end, not the chord
 _BIG = 1 << 40       # "first stored column" of a row that is 0 throughout
+_NFIELDS = len(FIELDS)
 
 
 _S32 = tuple(np.float32((-1.0) ** k / math.factorial(2 * k + 1)) for k in range(7))
@@ -83,7 +87,7 @@ def _sin32(x: np.float32) -> np.float32:
 def _locate(t: np.float32, day: tuple) -> tuple:
     """Cell kk (0 = outside the table) of t and its fraction in the cell;
     day = (ax, kmap, ctw): the lattice bin of ``tables._bin`` -> kmap
-    (uint16) -> per cell (t_k, 1/width) in ctw."""
+    (int32) -> per cell (t_k, 1/width) in ctw."""
     tc, j = _bin(t, day[0])
     k = np.uint64(day[1][j])
     return k, (tc - day[2][2 * k]) * day[2][2 * k + 1]
@@ -128,8 +132,9 @@ def arcs_range(kind: int, a: np.ndarray, b: np.ndarray, c: np.ndarray, d: np.nda
     """out[start:stop] (module notes) from (tmin, tmax, next tmin, day length)
     a, b, c, d; the exact ``_pl_day`` (none if kind < 0) in blocks of _BLOCK
     that left +inf; returns how many.  day = the locator, arcs = (rows,
-    planes, primitive, night, geometry).  One vectorised pass of phases and
-    arc ends per block, then the lookups."""
+    planes, primitive, night, geometry).  Per block one vectorised pass of
+    phases and arc ends into the block arrays, then the lookups, LANES at a
+    time (``_lanes_pl``), the rest with the same arithmetic in scalar code."""
     rows, tab, ptab, ntab, geo = arcs
     ctw = day[2]
     f32 = np.float32
@@ -138,15 +143,11 @@ def arcs_range(kind: int, a: np.ndarray, b: np.ndarray, c: np.ndarray, d: np.nda
     stride, step, y0, y1 = np.int32(geo[6]), f32(geo[7]), f32(geo[8]), f32(geo[9])
     side = np.uint64(geo[10])
     inv_pi, inv24, inf, zero = f32(1.0 / math.pi), 1.0 / 24.0, math.inf, f32(0.0)
-    tsr = np.empty(_BLOCK, dtype=np.float32)
-    tsk = np.empty(_BLOCK, dtype=np.float32)
-    tss = np.empty(_BLOCK, dtype=np.float32)
-    tse = np.empty(_BLOCK, dtype=np.float32)
-    p0v = np.empty(_BLOCK, dtype=np.float32)
-    dph = np.empty(_BLOCK, dtype=np.float32)
-    scale = np.empty(_BLOCK, dtype=np.float32)
-    bad = np.empty(_BLOCK, dtype=np.float32)
-    off = np.empty(_BLOCK, dtype=np.int32)
+    blk = np.full((_NFIELDS, _BLOCK), np.nan, dtype=np.float32)   # NaN: valid indices
+    xs, ys, tsr, tsk, tss, tse = blk[0], blk[1], blk[2], blk[3], blk[4], blk[5]
+    p0v, dph, scale, bad, nanm, yls = blk[6], blk[7], blk[8], blk[9], blk[10], blk[11]
+    off = np.zeros(_BLOCK, dtype=np.int32)
+    vout = np.empty(_BLOCK, dtype=np.float64)
     total = 0
     for b0 in range(start, stop, _BLOCK):
         b1 = min(b0 + _BLOCK, stop)
@@ -162,6 +163,8 @@ def arcs_range(kind: int, a: np.ndarray, b: np.ndarray, c: np.ndarray, d: np.nda
             k = np.int32(min(max((f1 - f_first) * inv_step + f32(0.5), zero), top))
             fk = f_first + step * f32(k)
             ts = x + amp * _sin32(f1)
+            xs[i] = x
+            ys[i] = y
             tsr[i] = x + amp * _sin32(p0)
             tsk[i] = x + amp * _sin32(fk)
             tss[i] = ts
@@ -172,11 +175,15 @@ def arcs_range(kind: int, a: np.ndarray, b: np.ndarray, c: np.ndarray, d: np.nda
             off[i] = stride * (k + np.int32(1))              # plane 0 is Q
             ok = (amp >= zero) & (yl >= y0) & (yl <= y1)
             bad[i] = zero if ok else f32(1.0)
-        cnt = 0
-        for i in range(n):
-            x, y = np.float32(aa[i]), np.float32(bb[i])
-            kx, fx = _locate(x, day)
-            ky, fy = _locate(y, day)
+            nanm[i] = zero * (x + y + w + yl)                # NaN in, NaN out
+            yls[i] = yl
+        m = n - n % LANES
+        for i in range(0, m, LANES):
+            arcs_lanes(blk, off, vout, i, day[0], day[1], ctw, rows, tab, ptab, ntab,
+                       np.int64(side))
+        for i in range(m, n):
+            kx, fx = _locate(xs[i], day)
+            ky, fy = _locate(ys[i], day)
             t1, t2, t3, t4 = tsr[i], tsk[i], tss[i], tse[i]
             k1, f1 = _locate(t1, day)
             k2, f2 = _locate(t2, day)
@@ -185,13 +192,17 @@ def arcs_range(kind: int, a: np.ndarray, b: np.ndarray, c: np.ndarray, d: np.nda
             q = _plane(kx, fx, ky, fy, rows, tab, np.int64(0))
             kv = _plane(kx, fx, k2, f2, rows, tab, np.int64(off[i]))
             nv = _bilinear(ntab, np.uint64(4) * (k3 * side + k4), f3, f4)
-            m0 = _mean_rate(kx, fx, x, k1, f1, t1, ptab, ctw)
+            m0 = _mean_rate(kx, fx, xs[i], k1, f1, t1, ptab, ctw)
             m1 = _mean_rate(k2, f2, t2, k3, f3, t3, ptab, ctw)
             arc = 2.0 * np.float64(q) - np.float64(p0v[i]) * m0 \
                 - (np.float64(kv) + np.float64(dph[i]) * m1)
-            v = (np.float64(scale[i]) * arc + (24.0 - np.float64(dd[i])) * np.float64(nv)) * inv24
-            v = (v if (abs(v) < inf) & (bad[i] == zero) else inf) + 0.0 * (x + y + cw[i] + dd[i])
-            oo[i] = v            # NaN in, NaN out; +inf: computed exactly below
+            v = (np.float64(scale[i]) * arc + (24.0 - np.float64(yls[i])) * np.float64(nv)) \
+                * inv24
+            vout[i] = (v if (abs(v) < inf) & (bad[i] == zero) else inf) + np.float64(nanm[i])
+        cnt = 0
+        for i in range(n):       # +inf: computed exactly below
+            v = vout[i]
+            oo[i] = v
             cnt += v == inf
         if cnt > 0 and kind >= 0:
             _exact_block(kind, a, b, c, d, out, b0, b1, kern)
@@ -258,11 +269,12 @@ def _check_planes(ci: np.ndarray, cj: np.ndarray, nodes: np.ndarray, phis: np.nd
 # ------------------------------------------------------------------ building
 def compact_locator(loc: tuple) -> tuple:
     """(ax, kmap, ctw) from ``tables._locator``'s (ax, tw, offr, offc): the
-    cell kk of each lattice bin (uint16) and (t_k, 1/width) per cell."""
+    cell kk of each lattice bin (int32, for the gathers of ``_lanes_pl``) and
+    (t_k, 1/width) per cell."""
     kk = (loc[3] // 4).astype(np.int64)
     ctw = np.zeros((int(kk.max()) + 1, 2), dtype=np.float32)
     ctw[kk] = loc[1].reshape(-1, 2)
-    return loc[0], kk.astype(np.uint16), ctw.reshape(-1)
+    return loc[0], kk.astype(np.int32), ctw.reshape(-1)
 
 
 def plane_phases(phi_range: tuple[float, float], plane_step: float) -> np.ndarray:
