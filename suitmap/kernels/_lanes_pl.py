@@ -32,7 +32,15 @@ from ._lanes import _F32, _F64, _I32, _I64, LANES, _const, _gather, _splat, _vec
 # rows of the block array filled by the phase pass of _pl_arcs.arcs_range
 FIELDS = ("tmin", "tmax", "t_rise", "t_plane", "t_set", "t_end", "p0", "dphi", "scale", "bad",
           "nan", "daylength")
-EPS = 1e-3           # °C: as _pl_arcs._EPS (closer arc ends use the rate at one end)
+EPS = 1e-3           # °C: closer arc ends use the rate at one end, not the chord
+
+
+def _fabs(b: ir.IRBuilder, v: ir.Value) -> ir.Value:
+    """|v| of a float64 vector (llvm.fabs)."""
+    name = f"llvm.fabs.v{LANES}f64"
+    fn = b.module.globals.get(name) or ir.Function(
+        b.module, ir.FunctionType(_vec(_F64), [_vec(_F64)]), name)
+    return b.call(fn, [v])
 
 
 class _Builder:
@@ -106,9 +114,7 @@ class _Builder:
             b.fmul(_const(_F64, 2.0), cu[2]),
             b.fmul(b.fmul(_const(_F64, 3.0), f), cu[3])))), b.fpext(iwu, _vec(_F64)))
         d = b.fsub(b.fpext(v, _vec(_F64)), b.fpext(u, _vec(_F64)))
-        fabs = b.module.globals.get("llvm.fabs.v16f64") or ir.Function(
-            b.module, ir.FunctionType(_vec(_F64), [_vec(_F64)]), "llvm.fabs.v16f64")
-        near = b.fcmp_ordered("<", b.call(fabs, [d]), _const(_F64, EPS))
+        near = b.fcmp_ordered("<", _fabs(b, d), _const(_F64, EPS))
         far = b.fdiv(b.fsub(pv, pu), b.select(near, _const(_F64, 1.0), d))
         return b.select(near, slope, far)
 
@@ -159,9 +165,7 @@ def arcs_lanes(typingctx, blk, off, vout, i, ax, kmap, ctw, rows, tab, ptab, nta
                      b.fadd(d64(kv), b.fmul(d64(field("dphi")), m1)))
         night = b.fmul(b.fsub(_const(_F64, 24.0), d64(field("daylength"))), d64(nv))
         v = b.fmul(b.fadd(b.fmul(d64(field("scale")), arc), night), _const(_F64, 1.0 / 24.0))
-        fabs = b.module.globals.get("llvm.fabs.v16f64") or ir.Function(
-            b.module, ir.FunctionType(_vec(_F64), [_vec(_F64)]), "llvm.fabs.v16f64")
-        ok = b.and_(b.fcmp_ordered("<", b.call(fabs, [v]), _const(_F64, math.inf)),
+        ok = b.and_(b.fcmp_ordered("<", _fabs(b, v), _const(_F64, math.inf)),
                     b.fcmp_ordered("==", field("bad"), _const(_F32, 0.0)))
         v = b.fadd(b.select(ok, v, _const(_F64, math.inf)), d64(field("nan")))
         b.store(v, b.bitcast(b.gep(pout, [i]), _vec(_F64).as_pointer()), align=8)

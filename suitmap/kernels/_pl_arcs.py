@@ -60,12 +60,12 @@ import numpy as np
 from . import development as dev
 from .rates import rate_array
 from ._lanes import LANES
-from ._lanes_pl import FIELDS, arcs_lanes
+from ._lanes_pl import EPS, FIELDS, arcs_lanes
 from .tables import _BLOCK, _CHUNK, _EX_PL, _JIT, _TOL, _bilinear, _bin, _exact_block
 
 _INLINE = dict(_JIT, inline="always")
 MAX_SUNRISE = 0.15   # rad: the longest sunrise arc taken as a chord (else quadrature)
-_EPS = 1e-3          # °C: closer arc ends use the rate at one end, not the chord
+_EPS = EPS           # °C: closer arc ends use the rate at one end, not the chord
 _BIG = 1 << 40       # "first stored column" of a row that is 0 throughout
 _NFIELDS = len(FIELDS)
 
