@@ -93,16 +93,6 @@ def test_degree_days_fast_equals_exact(dd_tables, method, cutoff):
     assert table.max_rel_error <= 5e-4 and 0.0 <= table.marked_fraction < 0.02
 
 
-def test_degree_days_default_is_closed_form():
-    # measured: the vectorised closed forms are faster than a lookup
-    t = degree_day_table(L, U, "single_sine", "vertical")
-    assert t.strategy == "closed_form"
-    tmin, tmax, _ = days(1000, seed=3)
-    np.testing.assert_array_equal(
-        t.evaluate(tmin, tmax), degree_days_block(tmin, tmax, None, L, U, "single_sine",
-                                                  "vertical"))
-
-
 @pytest.mark.parametrize("cutoff", CUTOFFS)
 def test_degree_day_table_across_the_kinks(dd_tables, cutoff):
     # The single-sine value has kinks along Tmin = L, Tmax = L, Tmin = U and
