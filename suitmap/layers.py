@@ -104,7 +104,7 @@ def _daily_development(tn, tx, nxt, lat, doy, curve, table=None):
 def _season_block(tmin: np.ndarray, tmax: np.ndarray, lat: np.ndarray, *,
                   slices_north, slices_south, per_hemisphere, doy, lower, upper, method, cutoff,
                   dd_per_gen, curve, lethal_cold, lethal_heat, table=None,
-                  dd_diurnal="sine") -> np.ndarray:
+                  dd_diurnal="sine", fast=True) -> np.ndarray:
     """Season statistics of one block; arrays arrive as (y, x, time).
 
     Days with Tmin > Tmax are swapped here (the smaller value is the minimum).
@@ -134,7 +134,7 @@ def _season_block(tmin: np.ndarray, tmax: np.ndarray, lat: np.ndarray, *,
             day_kw = ({"latitude": lat, "doy": doy} if dd_diurnal == "parton_logan" else {})
             total, first, cold, heat, mean_tmax = season_degree_days(
                 tmin_t, tmax_t, i0, i1, lower, upper, method, cutoff, dd_per_gen or 1.0,
-                lethal_cold, lethal_heat, **day_kw)
+                lethal_cold, lethal_heat, fast=fast, **day_kw)
             if curve is None:
                 stats = np.stack([total, total / dd_per_gen, first, cold, heat, mean_tmax], axis=-1)
                 out[cells, :, k] = stats[cells]
@@ -200,7 +200,7 @@ def season_statistics(tmin: xr.DataArray, tmax: xr.DataArray, profile: Profile,
     common = dict(per_hemisphere=per_hemisphere, lower=dev.lower_threshold,
                   upper=dev.upper_threshold, method=dev.method, cutoff=dev.cutoff,
                   dd_per_gen=dev.degree_days_per_generation, curve=curve, table=table,
-                  dd_diurnal=dev.diurnal,
+                  dd_diurnal=dev.diurnal, fast=fast,
                   lethal_cold=surv.lethal_cold, lethal_heat=surv.lethal_heat)
     # one small computation per season-year: each task holds one season of one spatial
     # chunk (plus the next day, for the double methods), so memory does not grow with the
@@ -333,8 +333,10 @@ def compute_layers(tmin: xr.DataArray, tmax: xr.DataArray, profile: Profile,
                    years: tuple[int, int], *, label: str = "", fast: bool = True) -> xr.Dataset:
     """Lazy output layers (dims ``y, x``) of one period; CRS copied from the input.
 
-    ``fast``: rate summation over the sine day uses a precomputed (Tmin, Tmax)
-    table (within 1e-3 of the exact integral; see :mod:`suitmap.kernels.tables`).
+    ``fast``: rate summation uses precomputed tables (within 1e-3 of the
+    exact integral; see :mod:`suitmap.kernels.tables`) and sine degree-days
+    the float32 closed form (within about 1e-5 °C·day a day;
+    :mod:`suitmap.kernels.degree_days32`).
     """
     stats = season_statistics(tmin, tmax, profile, years, label=label, fast=fast)
     ds = period_layers(stats, profile)

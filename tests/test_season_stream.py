@@ -70,3 +70,36 @@ def test_stream_nan_rules_and_limits():
     with pytest.raises(ValueError):
         season_degree_days(tmin, tmax, 5, 90, 10.0, 30.0, "single_sine", "horizontal", 1.0,
                            None, None)
+
+
+@pytest.mark.parametrize("method", ["single_sine", "double_sine"])
+@pytest.mark.parametrize("cutoff", CUTOFFS)
+def test_stream_fast_equals_float32_kernel(method, cutoff):
+    # fast=True: the float32 sine loop of degree_days32 in the stream.  The two
+    # steps with that kernel give the same figures exactly, and the season
+    # totals stay within 1e-5 relative of the float64 stream (the kernel is
+    # within 3e-5 degC.day a day of the float64 closed form,
+    # tests/test_degree_days32.py)
+    from suitmap.kernels.degree_days32 import sine_degree_days32
+
+    rng = np.random.default_rng(12)
+    tmin, tmax = _climate(rng, ny=41, nx=53)
+    i0, i1 = 5, 79
+    got = season_degree_days(tmin, tmax, i0, i1, 10.0, 30.0, method, cutoff, 150.0, -2.0,
+                             28.0, fast=True)
+    tn_all = np.moveaxis(np.minimum(tmin, tmax), 0, -1)        # (y, x, day), as _two_step
+    tx_all = np.moveaxis(np.maximum(tmin, tmax), 0, -1)
+    tn = np.ascontiguousarray(tn_all[..., i0:i1])
+    tx = np.ascontiguousarray(tx_all[..., i0:i1])
+    nxt = np.ascontiguousarray(tn_all[..., i0 + 1:i1 + 1])
+    dd = np.empty(tn.size)
+    sine_degree_days32(tn.ravel(), tx.ravel(), nxt.ravel(), 10.0, 30.0, METHODS.index(method),
+                       CUTOFFS.index(cutoff), dd, parallel=False)
+    want = season_reduce(dd.reshape(tn.shape), tn, tx, 150.0, -2.0, 28.0)
+    for g, w in zip(got, want):
+        np.testing.assert_array_equal(g, w)
+    exact = season_degree_days(tmin, tmax, i0, i1, 10.0, 30.0, method, cutoff, 150.0, -2.0,
+                               28.0)
+    ok = np.isfinite(exact[0]) & (exact[0] > 1.0)
+    assert np.max(np.abs(got[0][ok] / exact[0][ok] - 1.0)) <= 1e-5
+    np.testing.assert_array_equal(np.isnan(got[0]), np.isnan(exact[0]))

@@ -13,6 +13,7 @@ from .degree_days import CUTOFFS, METHODS, _check_code, _fill_range, _thresholds
 from .degree_days_diurnal import _coefficients
 from .diurnal import daylength
 from .degree_days_diurnal import _fill_range as _pl_fill_range
+from .degree_days32 import _range32
 
 
 @numba.njit(cache=True, nogil=True)  # nogil: dask threads run blocks at once
@@ -80,7 +81,7 @@ _TILE = 1024   # cells per tile: a tile's running figures and day rows stay in L
 
 @numba.njit(cache=True, nogil=True, error_model="numpy")
 def _stream(tmin, tmax, i0, i1, lower, upper, method, cutoff, threshold, lethal_cold,
-            lethal_heat, dl_rows, cell_row, pl, total, first, cold, heat, mtx):
+            lethal_heat, dl_rows, cell_row, pl, fast32, total, first, cold, heat, mtx):
     """Days i0..i1-1 of (day, cell) arrays, a tile of cells and one day at a time.
 
     Each day's row of the tile is swapped (Tmin > Tmax), turned into
@@ -91,6 +92,7 @@ def _stream(tmin, tmax, i0, i1, lower, upper, method, cutoff, threshold, lethal_
     on each day) the day is Parton & Logan's with coefficients ``pl`` =
     (a, b, c) instead of the method's.  A NaN day makes the sum (degree-days
     are NaN where an input is) or the Tmax sum NaN, and then every figure.
+    ``fast32`` (sine methods): the float32 loop of ``degree_days32``.
     """
     nt, nc = tmin.shape
     lo = np.empty(_TILE, tmin.dtype)
@@ -134,6 +136,9 @@ def _stream(tmin, tmax, i0, i1, lower, upper, method, cutoff, threshold, lethal_
                     dl[j] = dl_rows[rows[j], t]
                 _pl_fill_range(lo, hi, lo_next, dl, dd, 0, m, 1, lower, upper, cutoff,
                                pl[0], pl[1], pl[2])
+            elif fast32:
+                _range32(lo, hi, lo_next, dd, 0, m, np.float32(lower), np.float32(upper),
+                         method, cutoff)
             else:
                 _fill_range(lo, hi, lo_next, dd, 0, m, lower, upper, method, cutoff)
             day = t - i0 + 1.0
@@ -162,7 +167,8 @@ def season_degree_days(tmin: np.ndarray, tmax: np.ndarray, start: int, stop: int
                        lower: float, upper: float, method: int | str, cutoff: int | str,
                        dd_per_generation: float, lethal_cold: float | None,
                        lethal_heat: float | None, *, latitude: np.ndarray | None = None,
-                       doy: np.ndarray | None = None, coefficients: dict | None = None):
+                       doy: np.ndarray | None = None, coefficients: dict | None = None,
+                       fast: bool = False):
     """Season figures straight from (day, ...) Tmin/Tmax, without daily arrays.
 
     The same figures as ``degree_days_block`` followed by ``season_reduce``
@@ -192,6 +198,10 @@ def season_degree_days(tmin: np.ndarray, tmax: np.ndarray, start: int, stop: int
         Daylength is computed once per distinct latitude and day.
     coefficients : dict, optional
         Parton-Logan a, b, c (default: the 150-cm air temperature values).
+    fast : bool
+        Single and double sine without ``latitude``: the float32 closed form
+        of :mod:`suitmap.kernels.degree_days32` (input rounded to float32;
+        within about 1e-5 °C·day a day) instead of the float64 one.
 
     Returns
     -------
@@ -211,7 +221,9 @@ def season_degree_days(tmin: np.ndarray, tmax: np.ndarray, start: int, stop: int
     if tmin.shape != tmax.shape or not 0 <= start < stop <= tmin.shape[0]:
         raise ValueError(f"tmin {tmin.shape}/tmax {tmax.shape} must match and hold days "
                          f"{start}..{stop - 1}")
-    dtype = np.float32 if tmin.dtype == tmax.dtype == np.float32 else np.float64
+    fast32 = bool(fast) and latitude is None and METHODS[m] in ("single_sine", "double_sine")
+    both32 = tmin.dtype == tmax.dtype == np.float32
+    dtype = np.float32 if fast32 or both32 else np.float64
     shape = tmin.shape[1:]
     a = np.ascontiguousarray(tmin, dtype=dtype).reshape(tmin.shape[0], -1)
     b = np.ascontiguousarray(tmax, dtype=dtype).reshape(tmax.shape[0], -1)
@@ -231,5 +243,5 @@ def season_degree_days(tmin: np.ndarray, tmax: np.ndarray, start: int, stop: int
         cell_row = np.ascontiguousarray(cell_row.reshape(-1), dtype=np.int64)
         pl = np.array(_coefficients(coefficients))
     _stream(a, b, int(start), int(stop), lower, upper, m, c, float(dd_per_generation),
-            lc, lh, dl_rows, cell_row, pl, *out)
+            lc, lh, dl_rows, cell_row, pl, fast32, *out)
     return tuple(o.reshape(shape) for o in out)
