@@ -59,6 +59,7 @@ _ONE, _HALVES, _PLQ = range(3)        # modes: one lookup, two half-days, quadra
 _EX_DD, _EX_SINE, _EX_PL = range(3)   # exact kernels for the fallback
 _CHUNK = 16384
 _BLOCK = 128                  # values per fast pass; the exact pass scans one block
+_SUB = 256                    # values per (Tmin, Tmax) table pass before its exact pass
 _PARALLEL_MIN = 65536
 _JIT = dict(cache=True, nogil=True, error_model="numpy")  # nogil: dask threads run kernels at once
 _INLINE = dict(_JIT, inline="always")
@@ -170,13 +171,20 @@ def _table_range(mode: int, kind: int, a: np.ndarray, b: np.ndarray, c: np.ndarr
     """out[start:stop] from the table, first argument on the rows, second on
     the columns (one loop per mode: measured 10 % faster than a branch in
     the loop); where that left +inf, the exact kernel ``kind`` (none if < 0).
-    Returns how many +inf."""
-    if mode == _ONE:
-        cnt = _one_range(a, b, out, start, stop, grid)
-    else:
-        cnt = _halves_range(a, b, c, out, start, stop, grid)
-    if cnt > 0 and kind >= 0:
-        _exact_block(kind, a, b, c, d, out, start, stop, kern)
+    In sub-blocks of ``_SUB`` values, so that the exact pass rescans only a
+    sub-block with a +inf, while it is in L1 (measured: rescanning whole
+    chunks cost up to a third of the time where 0.1 % of the values are
+    exact).  Returns how many +inf."""
+    cnt = 0
+    for s in range(start, stop, _SUB):
+        e = min(stop, s + _SUB)
+        if mode == _ONE:
+            k = _one_range(a, b, out, s, e, grid)
+        else:
+            k = _halves_range(a, b, c, out, s, e, grid)
+        if k > 0 and kind >= 0:
+            _exact_block(kind, a, b, c, d, out, s, e, kern)
+        cnt += k
     return cnt
 
 
