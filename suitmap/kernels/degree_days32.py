@@ -212,7 +212,8 @@ def asin32(x: np.ndarray) -> np.ndarray:
     References
     ----------
     .. [1] Abramowitz, M. & Stegun, I.A. (1964) Handbook of Mathematical
-       Functions, 4.4.40 (the series of the arcsine fitted here).
+       Functions, section 4.4 (inverse circular functions; the power series
+       of the arcsine is what the polynomial is fitted to).
     """
     x = np.ascontiguousarray(x, dtype=np.float32)
     out = np.empty_like(x)

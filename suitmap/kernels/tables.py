@@ -2,7 +2,7 @@
 
 ``DailyTable`` evaluates a daily kernel over (Tmin, Tmax) arrays in a
 compiled, parallel loop (float32 or float64 in, float64 out, NaN in, NaN
-out), with one of three strategies, chosen by measurement
+out), with one of these strategies, chosen by measurement
 (benchmarks/README.md):
 
 * ``"table"`` (development with the sine day; degree-days on request): the
