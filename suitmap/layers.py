@@ -28,6 +28,7 @@ from .kernels.diurnal import daylength as _daylength
 from .kernels.season import season_degree_days, season_reduce
 from .metadata import LIMITING_FACTOR_CLASSES, MISSING_CLASS, layer_attrs
 from .profile import Profile
+from .table_cache import cached_table
 from .seasons import (NORTH_DEFAULT, SOUTH_DEFAULT, SeasonWindow, complete_seasons,
                       day360_to_365, season_index, season_labels, time_fields)
 
@@ -77,13 +78,17 @@ def _fast_table(rc, diurnal: str, lat: np.ndarray, doy: np.ndarray):
 
 @lru_cache(maxsize=4)
 def _built_table(model: str, params: tuple, diurnal: str, daylength_range):
-    """Tables take seconds to build (the Parton-Logan ones up to ~10 s): once per process."""
+    """Tables take seconds to build (the Parton-Logan ones up to ~10 s): once per
+    process, and read back from the on-disk cache in later runs (``table_cache``)."""
     from .kernels.tables import development_table
 
-    if diurnal == "sine":
-        return development_table(model, dict(params), diurnal="sine")
-    return development_table(model, dict(params), diurnal="parton_logan",
-                             daylength_range=daylength_range)
+    def build():
+        if diurnal == "sine":
+            return development_table(model, dict(params), diurnal="sine")
+        return development_table(model, dict(params), diurnal="parton_logan",
+                                 daylength_range=daylength_range)
+
+    return cached_table(("development", model, params, diurnal, daylength_range), build)
 
 
 def _daily_development(tn, tx, nxt, lat, doy, curve, table=None):

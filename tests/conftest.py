@@ -2,8 +2,11 @@
 
 from __future__ import annotations
 
+import atexit
 import os
+import shutil
 import sys
+import tempfile
 import textwrap
 from pathlib import Path
 
@@ -11,6 +14,10 @@ import numpy as np
 import pytest
 
 os.environ.setdefault("MPLBACKEND", "Agg")
+# tables cached on disk (suitmap.table_cache) go to a folder of this test run, not
+# the user's cache (subprocesses inherit it), removed at exit
+os.environ["SUITMAP_CACHE_DIR"] = tempfile.mkdtemp(prefix="suitmap-test-cache-")
+atexit.register(shutil.rmtree, os.environ["SUITMAP_CACHE_DIR"], ignore_errors=True)
 sys.path.insert(0, str(Path(__file__).parent))
 
 from climate_fixtures import make_tmin_tmax, write_netcdf_daily  # noqa: E402

@@ -1,0 +1,129 @@
+"""The on-disk table cache (suitmap.table_cache): a stored table evaluates bit
+for bit as the one built, with numba's read-only array types restored; bad or
+foreign files are rebuilt, a changed kernel source or an "off" setting never
+reads one, and an unwritable folder only costs the cache."""
+
+from __future__ import annotations
+
+import sys
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+sys.path.insert(0, str(Path(__file__).parent))
+from test_development import CURVES  # noqa: E402  (published parameter sets, cited there)
+
+from suitmap import layers, table_cache  # noqa: E402
+from suitmap.kernels.tables import development_table  # noqa: E402
+
+
+def _days(n=5000, seed=4):
+    rng = np.random.default_rng(seed)
+    tmin = rng.uniform(-5.0, 30.0, n).astype(np.float32)
+    tmax = (tmin + rng.gamma(3.0, 3.0, n)).astype(np.float32)
+    dl = rng.uniform(10.0, 14.0, n).astype(np.float32)
+    return tmin, tmax, np.roll(tmin, 1), dl
+
+
+class Counter:
+    def __init__(self, make):
+        self.make, self.calls = make, 0
+
+    def __call__(self):
+        self.calls += 1
+        return self.make()
+
+
+@pytest.fixture
+def folder(tmp_path, monkeypatch):
+    monkeypatch.setenv("SUITMAP_CACHE_DIR", str(tmp_path / "cache"))
+    return tmp_path / "cache"
+
+
+@pytest.mark.parametrize("diurnal", ["sine", "parton_logan"])
+def test_round_trip_is_bit_identical(folder, diurnal):
+    kw = {} if diurnal == "sine" else {"daylength_range": (10.0, 14.0)}
+    build = Counter(lambda: development_table("linear", CURVES["linear"], diurnal=diurnal,
+                                              **kw))
+    args = ("test", "linear", diurnal)
+    first = table_cache.cached_table(args, build)
+    again = table_cache.cached_table(args, build)
+    assert build.calls == 1 and len(list(folder.glob("table-*.pkl"))) == 1
+    assert again is not first
+    assert table_cache._frozen(again) == table_cache._frozen(first)
+    assert any(table_cache._frozen(first))          # the quadrature nodes are read-only
+    tmin, tmax, nxt, dl = _days()
+    kw = {} if diurnal == "sine" else {"tmin_next": nxt, "daylength": dl}
+    np.testing.assert_array_equal(again.evaluate(tmin, tmax, **kw),
+                                  first.evaluate(tmin, tmax, **kw))
+
+
+def test_bad_file_is_rebuilt_and_replaced(folder):
+    build = Counter(lambda: development_table("linear", CURVES["linear"]))
+    table_cache.cached_table(("bad",), build)
+    (path,) = folder.glob("table-*.pkl")
+    path.write_bytes(b"not a pickle")
+    table_cache.cached_table(("bad",), build)
+    assert build.calls == 2
+    table_cache.cached_table(("bad",), build)       # the replacement is good
+    assert build.calls == 2
+    assert not list(folder.glob(".tmp-*"))          # no temporary file left behind
+
+
+def test_other_arguments_or_code_do_not_share_a_file(folder, monkeypatch):
+    build = Counter(lambda: development_table("linear", CURVES["linear"]))
+    table_cache.cached_table(("a",), build)
+    table_cache.cached_table(("b",), build)
+    assert build.calls == 2
+    monkeypatch.setattr(table_cache, "_code_digest", lambda: "edited kernels")
+    table_cache.cached_table(("a",), build)
+    assert build.calls == 3 and len(list(folder.glob("table-*.pkl"))) == 3
+
+
+def test_off_and_unwritable(tmp_path, monkeypatch):
+    build = Counter(lambda: development_table("linear", CURVES["linear"]))
+    monkeypatch.setenv("SUITMAP_CACHE_DIR", "off")
+    assert table_cache.cache_dir() is None
+    table_cache.cached_table(("x",), build)
+    table_cache.cached_table(("x",), build)
+    assert build.calls == 2
+    blocker = tmp_path / "a-file"
+    blocker.write_text("in the way")
+    monkeypatch.setenv("SUITMAP_CACHE_DIR", str(blocker / "cache"))   # cannot be created
+    assert table_cache.cached_table(("x",), build) is not None and build.calls == 3
+    monkeypatch.delenv("SUITMAP_CACHE_DIR")
+    monkeypatch.setenv("XDG_CACHE_HOME", str(tmp_path / "xdg"))
+    assert table_cache.cache_dir() == tmp_path / "xdg" / "suitmap"
+
+
+def test_pipeline_reads_its_tables_back(folder, monkeypatch):
+    params = tuple(sorted(CURVES["logan6"].items()))
+    layers._built_table.cache_clear()
+    first = layers._built_table("logan6", params, "sine", None)
+    layers._built_table.cache_clear()
+
+    def no_build(*a, **k):
+        raise AssertionError("the table should come from the cache")
+
+    monkeypatch.setattr("suitmap.kernels.tables.development_table", no_build)
+    again = layers._built_table("logan6", params, "sine", None)
+    layers._built_table.cache_clear()
+    tmin, tmax, _, _ = _days()
+    np.testing.assert_array_equal(again.evaluate(tmin, tmax), first.evaluate(tmin, tmax))
+
+
+def test_least_recently_used_tables_are_pruned(folder, monkeypatch):
+    build = Counter(lambda: development_table("linear", CURVES["linear"]))
+    table_cache.cached_table(("old",), build)
+    size = next(folder.glob("table-*.pkl")).stat().st_size
+    monkeypatch.setattr(table_cache, "MAX_BYTES", int(2.5 * size))   # room for two
+    table_cache.cached_table(("mid",), build)
+    table_cache.cached_table(("old",), build)       # read: renewed, now the newest
+    table_cache.cached_table(("new",), build)       # a third: the least recent goes
+    assert build.calls == 3 and len(list(folder.glob("table-*.pkl"))) == 2
+    table_cache.cached_table(("old",), build)
+    table_cache.cached_table(("new",), build)
+    assert build.calls == 3                         # both kept
+    table_cache.cached_table(("mid",), build)
+    assert build.calls == 4                         # it was the one pruned
