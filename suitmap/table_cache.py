@@ -18,8 +18,10 @@ reads a table made by other code. Files are written under a temporary name
 and then renamed, so a crash or a concurrent run leaves no partial file. A
 file that cannot be read, or holds something else, is rebuilt and replaced.
 If the folder cannot be written, the table is built and used without the
-cache. Files are pickles, read only from this folder, which is the user's
-own. A Parton–Logan table takes 10–40 MB. Once the folder holds more than
+cache. A file is an ``.npz`` of the table's arrays plus a JSON description of
+the rest, read with ``allow_pickle=False``, so loading one runs no code; only
+the two table classes of ``suitmap.kernels`` are rebuilt from it. A
+Parton–Logan table takes 10–40 MB. Once the folder holds more than
 ``MAX_BYTES`` (2 GB), the least recently used tables are deleted. The folder
 can be deleted at any time to clear the cache.
 """
@@ -28,7 +30,7 @@ from __future__ import annotations
 
 import hashlib
 import os
-import pickle
+import json
 import tempfile
 import time
 from collections.abc import Callable
@@ -39,7 +41,7 @@ import numpy as np
 
 __all__ = ["cache_dir", "cached_table"]
 
-_FORMAT = 1          # bump when the stored layout changes
+_FORMAT = 2          # bump when the stored layout changes
 MAX_BYTES = 2_000_000_000   # the oldest files go once the folder holds more (reading one renews it)
 
 
@@ -48,7 +50,12 @@ def cache_dir() -> Path | None:
     env = os.environ.get("SUITMAP_CACHE_DIR")
     if env is not None:
         return None if env.strip().lower() in ("", "off") else Path(env).expanduser()
-    base = os.environ.get("XDG_CACHE_HOME") or str(Path.home() / ".cache")
+    base = os.environ.get("XDG_CACHE_HOME")
+    if not base:
+        try:
+            base = str(Path.home() / ".cache")
+        except (RuntimeError, KeyError):   # no home folder (some batch systems): no cache
+            return None
     return Path(base) / "suitmap"
 
 
@@ -65,45 +72,74 @@ def _code_digest() -> str:
     return h.hexdigest()
 
 
-def _arrays(obj) -> list[np.ndarray]:
-    """The numpy arrays inside nested tuples and lists, in order."""
-    if isinstance(obj, np.ndarray):
-        return [obj]
-    if isinstance(obj, (tuple, list)):
-        return [a for item in obj for a in _arrays(item)]
-    if isinstance(obj, dict):
-        return [a for k in sorted(obj, key=str) for a in _arrays(obj[k])]
-    return []
+def _classes() -> dict:
+    from .kernels.tables import DailyTable
+    from .kernels.tables_daylength import PartonLoganTable
+
+    return {"DailyTable": DailyTable, "PartonLoganTable": PartonLoganTable}
 
 
-def _frozen(table) -> list[bool]:
-    """Which of the table's arrays are read-only: numba types a read-only
-    array apart from a writeable one, and pickling drops the flag."""
-    return [not a.flags.writeable for a in _arrays(vars(table))]
+def _encode(value, arrays: list) -> list:
+    """``value`` as JSON-able [tag, body]; numpy arrays go to ``arrays``, with
+    their read-only flag (numba types a read-only array apart from a
+    writeable one, and a loaded array is writeable)."""
+    if isinstance(value, np.ndarray):
+        arrays.append(value)
+        return ["array", [len(arrays) - 1, not value.flags.writeable]]
+    if isinstance(value, np.generic):
+        return ["scalar", [value.dtype.str, value.item()]]
+    if isinstance(value, (tuple, list)):
+        return ["tuple" if isinstance(value, tuple) else "list",
+                [_encode(v, arrays) for v in value]]
+    if isinstance(value, dict):
+        return ["dict", [[_encode(k, arrays), _encode(v, arrays)] for k, v in value.items()]]
+    if value is None or isinstance(value, (bool, int, float, str)):
+        return ["plain", value]
+    raise TypeError(f"cannot store a {type(value).__name__} in the table cache")
+
+
+def _decode(data: list, arrays: dict):
+    tag, body = data
+    if tag == "array":
+        a = arrays[f"a{body[0]}"]
+        a.flags.writeable = not body[1]
+        return a
+    if tag == "scalar":
+        return np.array(body[1], dtype=np.dtype(body[0]))[()]
+    if tag in ("tuple", "list"):
+        items = [_decode(v, arrays) for v in body]
+        return tuple(items) if tag == "tuple" else items
+    if tag == "dict":
+        return {_decode(k, arrays): _decode(v, arrays) for k, v in body}
+    if tag == "plain":
+        return body
+    raise ValueError(f"unknown entry {tag!r}")
 
 
 def _load(path: Path, key: str):
-    with open(path, "rb") as f:
-        stored = pickle.load(f)
-    if not (isinstance(stored, dict) and stored.get("key") == key):
-        raise ValueError("not this table")
-    table = stored["table"]
-    arrays = _arrays(vars(table))
-    if len(arrays) != len(stored["frozen"]):
-        raise ValueError("layout differs")
-    for a, ro in zip(arrays, stored["frozen"]):
-        if ro:
-            a.flags.writeable = False
+    with np.load(path, allow_pickle=False) as z:
+        meta = json.loads(str(z["meta"]))
+        if meta.get("key") != key:
+            raise ValueError("not this table")
+        cls = _classes()[meta["class"]]
+        arrays = {name: np.array(z[name]) for name in z.files if name != "meta"}
+    table = cls.__new__(cls)
+    table.__dict__.update(_decode(meta["attrs"], arrays))
     return table
 
 
 def _save(folder: Path, path: Path, key: str, table) -> None:
+    arrays: list[np.ndarray] = []
+    name = type(table).__name__
+    if name not in _classes():
+        raise TypeError(f"cannot store a {name} in the table cache")
+    meta = {"key": key, "class": name, "attrs": _encode(dict(vars(table)), arrays)}
     folder.mkdir(parents=True, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(prefix=".tmp-", suffix=".pkl", dir=folder)
+    fd, tmp = tempfile.mkstemp(prefix=".tmp-", suffix=".npz", dir=folder)
     try:
         with os.fdopen(fd, "wb") as f:
-            pickle.dump({"key": key, "frozen": _frozen(table), "table": table}, f,
-                        protocol=pickle.HIGHEST_PROTOCOL)
+            np.savez(f, meta=np.array(json.dumps(meta)),
+                     **{f"a{i}": a for i, a in enumerate(arrays)})
         os.replace(tmp, path)
         _touch(path)
     except BaseException:
@@ -122,7 +158,7 @@ def _touch(path: Path) -> None:
 def _prune(folder: Path, keep: Path) -> None:
     """Delete the least recently used tables while the folder holds over MAX_BYTES."""
     files = []
-    for p in folder.glob("table-*.pkl"):
+    for p in folder.glob("table-*.npz"):
         try:
             st = p.stat()
         except OSError:
@@ -144,7 +180,7 @@ def cached_table(args: tuple, build: Callable[[], object]):
     if folder is None:
         return build()
     key = hashlib.sha256(repr((args, _code_digest())).encode()).hexdigest()
-    path = folder / f"table-{key[:32]}.pkl"
+    path = folder / f"table-{key[:32]}.npz"
     if path.is_file():
         try:
             table = _load(path, key)

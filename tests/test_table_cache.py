@@ -5,6 +5,7 @@ reads one, and an unwritable folder only costs the cache."""
 
 from __future__ import annotations
 
+import json
 import sys
 from pathlib import Path
 
@@ -15,6 +16,7 @@ sys.path.insert(0, str(Path(__file__).parent))
 from test_development import CURVES  # noqa: E402  (published parameter sets, cited there)
 
 from suitmap import layers, table_cache  # noqa: E402
+from suitmap.kernels import _pl_arcs, tables  # noqa: E402
 from suitmap.kernels.tables import development_table  # noqa: E402
 
 
@@ -24,6 +26,23 @@ def _days(n=5000, seed=4):
     tmax = (tmin + rng.gamma(3.0, 3.0, n)).astype(np.float32)
     dl = rng.uniform(10.0, 14.0, n).astype(np.float32)
     return tmin, tmax, np.roll(tmin, 1), dl
+
+
+def frozen(table) -> list:
+    """Read-only flags of the table's arrays, in a fixed order."""
+    out = []
+
+    def walk(v):
+        if isinstance(v, np.ndarray):
+            out.append(not v.flags.writeable)
+        elif isinstance(v, (tuple, list)):
+            for x in v:
+                walk(x)
+        elif isinstance(v, dict):
+            for k in sorted(v, key=str):
+                walk(v[k])
+    walk(vars(table))
+    return out
 
 
 class Counter:
@@ -49,21 +68,41 @@ def test_round_trip_is_bit_identical(folder, diurnal):
     args = ("test", "linear", diurnal)
     first = table_cache.cached_table(args, build)
     again = table_cache.cached_table(args, build)
-    assert build.calls == 1 and len(list(folder.glob("table-*.pkl"))) == 1
+    assert build.calls == 1 and len(list(folder.glob("table-*.npz"))) == 1
     assert again is not first
-    assert table_cache._frozen(again) == table_cache._frozen(first)
-    assert any(table_cache._frozen(first))          # the quadrature nodes are read-only
-    tmin, tmax, nxt, dl = _days()
+    assert frozen(again) == frozen(first)
+    assert any(frozen(first))                       # the quadrature nodes are read-only
+    assert set(vars(again)) == set(vars(first)) and type(again) is type(first)
+    tmin, tmax, nxt, dl = _days(70_000)             # the parallel path
     kw = {} if diurnal == "sine" else {"tmin_next": nxt, "daylength": dl}
-    np.testing.assert_array_equal(again.evaluate(tmin, tmax, **kw),
-                                  first.evaluate(tmin, tmax, **kw))
+    want = first.evaluate(tmin, tmax, **kw)
+    loop = tables._run_parallel if diurnal == "sine" else _pl_arcs.arcs_parallel
+    compiled = len(loop.signatures)
+    np.testing.assert_array_equal(again.evaluate(tmin, tmax, **kw), want)
+    assert len(loop.signatures) == compiled         # same array types: nothing recompiled
+
+
+def test_foreign_content_is_not_loaded(folder):
+    # a file naming another class (or anything not a suitmap table) is rebuilt;
+    # np.load(allow_pickle=False) never runs code from it
+    build = Counter(lambda: development_table("linear", CURVES["linear"]))
+    table_cache.cached_table(("f",), build)
+    (path,) = folder.glob("table-*.npz")
+    with np.load(path) as z:
+        meta = json.loads(str(z["meta"]))
+        arrays = {k: z[k] for k in z.files if k != "meta"}
+    meta["class"] = "Popen"
+    with open(path, "wb") as f:
+        np.savez(f, meta=np.array(json.dumps(meta)), **arrays)
+    again = table_cache.cached_table(("f",), build)
+    assert build.calls == 2 and type(again).__name__ == "DailyTable"
 
 
 def test_bad_file_is_rebuilt_and_replaced(folder):
     build = Counter(lambda: development_table("linear", CURVES["linear"]))
     table_cache.cached_table(("bad",), build)
-    (path,) = folder.glob("table-*.pkl")
-    path.write_bytes(b"not a pickle")
+    (path,) = folder.glob("table-*.npz")
+    path.write_bytes(b"not an npz file")
     table_cache.cached_table(("bad",), build)
     assert build.calls == 2
     table_cache.cached_table(("bad",), build)       # the replacement is good
@@ -78,7 +117,7 @@ def test_other_arguments_or_code_do_not_share_a_file(folder, monkeypatch):
     assert build.calls == 2
     monkeypatch.setattr(table_cache, "_code_digest", lambda: "edited kernels")
     table_cache.cached_table(("a",), build)
-    assert build.calls == 3 and len(list(folder.glob("table-*.pkl"))) == 3
+    assert build.calls == 3 and len(list(folder.glob("table-*.npz"))) == 3
 
 
 def test_off_and_unwritable(tmp_path, monkeypatch):
@@ -116,12 +155,12 @@ def test_pipeline_reads_its_tables_back(folder, monkeypatch):
 def test_least_recently_used_tables_are_pruned(folder, monkeypatch):
     build = Counter(lambda: development_table("linear", CURVES["linear"]))
     table_cache.cached_table(("old",), build)
-    size = next(folder.glob("table-*.pkl")).stat().st_size
+    size = next(folder.glob("table-*.npz")).stat().st_size
     monkeypatch.setattr(table_cache, "MAX_BYTES", int(2.5 * size))   # room for two
     table_cache.cached_table(("mid",), build)
     table_cache.cached_table(("old",), build)       # read: renewed, now the newest
     table_cache.cached_table(("new",), build)       # a third: the least recent goes
-    assert build.calls == 3 and len(list(folder.glob("table-*.pkl"))) == 2
+    assert build.calls == 3 and len(list(folder.glob("table-*.npz"))) == 2
     table_cache.cached_table(("old",), build)
     table_cache.cached_table(("new",), build)
     assert build.calls == 3                         # both kept

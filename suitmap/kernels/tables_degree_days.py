@@ -64,6 +64,9 @@ def _float32_check(table: DailyTable, lower: float, upper: float, method: str, c
 def build_degree_days(lower: float, upper: float, method: str, cutoff: str,
                        t_range: tuple[float, float] = T_RANGE, strategy: str = "auto",
                        **grid) -> DailyTable:
+    """A degree-day ``DailyTable`` (``tables.degree_day_table`` documents the
+    arguments); ValueError for unknown names, bad thresholds or a strategy
+    the method does not have."""
     if method not in METHODS or cutoff not in CUTOFFS:
         raise ValueError(f"unknown degree-day method {method!r} or cutoff {cutoff!r}; use "
                          f"{', '.join(METHODS)} / {', '.join(CUTOFFS)}")
