@@ -58,6 +58,8 @@ _PARALLEL_MIN = 65536   # below this many elements the serial loop is used
 _ATANH = tuple(1.0 / (2 * k + 1) for k in range(10))
 _A0, _A1, _A2, _A3, _A4, _A5, _A6, _A7, _A8, _A9 = _ATANH
 _LN2 = math.log(2.0)
+_LN_STEPS = tuple((2.0 ** -k, 2.0 ** k, float(k))
+                  for k in (512, 256, 128, 64, 32, 16, 8, 4, 2, 1))
 _SQRT_HALF = math.sqrt(0.5)
 
 
@@ -67,9 +69,11 @@ def _ln(x: float) -> float:
     e = 0.0
     # As a loop over a constant tuple (LLVM unrolls it); written out as ten
     # explicit selects it compiled to branches and the loop did not vectorise.
-    for k in (512, 256, 128, 64, 32, 16, 8, 4, 2, 1):   # then x in [1/2, 1]
-        small = x < 2.0 ** -k
-        x = x * 2.0 ** k if small else x
+    # The powers of two are constants in the tuple: computed as 2.0 ** k in
+    # the loop they stopped LLVM from vectorising a freshly compiled loop.
+    for lim, scale, k in _LN_STEPS:          # then x in [1/2, 1]
+        small = x < lim
+        x = x * scale if small else x
         e = e - k if small else e
     small = x < _SQRT_HALF
     x = x + x if small else x
