@@ -18,7 +18,10 @@ warm-up):
 * the sine methods again in float32 arithmetic
   (``degree_days32.sine_degree_days32``, the fast path: the default of
   ``tables.degree_day_table`` and of the pipeline with ``fast_tables``);
-* ``daily_degree_days_along_time`` end to end (it allocates its output).
+* ``daily_degree_days_along_time`` end to end (it allocates its output);
+* for information, degree-days over the Parton-Logan day
+  (``degree_days_diurnal``, the cross-check of the sine methods; daylength of
+  30-60 deg N by row), every cutoff, float64.
 
 Prints million cell-days per second, the ratio to the plain read, and whether
 every degree-day case meets the 400 Mcell-days/s target, with the fast path
@@ -38,6 +41,8 @@ sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), ".."
 from suitmap.kernels.degree_days import (  # noqa: E402
     CUTOFFS, METHODS, daily_degree_days_along_time, degree_days_block)
 from suitmap.kernels.degree_days32 import sine_degree_days32  # noqa: E402
+from suitmap.kernels.degree_days_diurnal import degree_days_parton_logan_block  # noqa: E402
+from suitmap.kernels.diurnal import daylength  # noqa: E402
 
 SHAPE = (365, 200, 200)
 LOWER, UPPER = 10.0, 30.0      # deg C
@@ -140,6 +145,16 @@ def main() -> int:
         name = f"along_time {m} (allocates out)"
         print(f"{name:40s} {t:8.4f} {r:13.1f} {r / plain_rate:13.2f}")
 
+    rows = daylength(np.linspace(30.0, 60.0, SHAPE[1])[None, :],
+                     np.arange(1, SHAPE[0] + 1)[:, None])[:, :, None]
+    for c in CUTOFFS:
+        def pl(c=c):
+            return degree_days_parton_logan_block(tmin[:-1], tmax[:-1], nxt, rows[:-1], LOWER,
+                                                  UPPER, c, out[:-1])
+        pl()
+        t = best_of(pl)
+        r = (cells - tmin[0].size) / t / 1e6
+        print(f"{'Parton-Logan day / ' + c + ' (info)':40s} {t:8.4f} {r:13.1f} {r / plain_rate:13.2f}")
     for label, rr in (("fast path (float32 sines)", fast), ("float64 closed forms", rates)):
         slowest = min(rr, key=rr.get)
         missed = [f"{m} / {c} ({r:.1f})" for (m, c), r in rr.items() if r < TARGET]
