@@ -45,6 +45,7 @@ from . import development as dev
 from .degree_days import CUTOFFS, METHODS, degree_days_block
 from .degree_days32 import sine_degree_days32
 from .degree_days import _fill_range as _dd_fill_range
+from .degree_days import _output_array
 from .rates import model_code, pack_params, rate_limits
 from ._lanes import LANES, LATTICE_BITS, halves_lanes, one_lanes
 from .tables_grid import _graded_axis, _lattice_grid, _locator  # noqa: F401  (tables_daylength)
@@ -269,16 +270,6 @@ def _flat(x, shape: tuple[int, ...], what: str) -> np.ndarray:
     return np.ascontiguousarray(x, dtype=dt).reshape(-1)
 
 
-def _checked_out(out, shape: tuple[int, ...]) -> np.ndarray:
-    """``out`` if it is a writeable C-contiguous float64 array of ``shape``, a new one if None."""
-    if out is None:
-        return np.empty(shape, dtype=np.float64)
-    if (not isinstance(out, np.ndarray) or out.dtype != np.float64 or out.shape != shape
-            or not out.flags.c_contiguous or not out.flags.writeable):
-        raise ValueError(f"out must be a writeable C-contiguous float64 array of shape {shape}")
-    return out
-
-
 # --------------------------------------------------------------------- public
 class DailyTable:
     """A fast daily kernel built once from an exact one (see the module notes);
@@ -366,7 +357,7 @@ class DailyTable:
             d = _flat(daylength, shape, "daylength")
         else:
             d = a
-        out = _checked_out(out, shape)
+        out = _output_array(out, shape)
         self.last_exact_count = int(self._run(a, b, c, d, out.reshape(-1), parallel))
         return out
 
@@ -375,7 +366,7 @@ class DailyTable:
         s = self.spec
         a, b = _flat(tmin, shape, "tmin"), _flat(tmax, shape, "tmax")
         c = None if tmin_next is None else _flat(tmin_next, shape, "tmin_next")
-        out = _checked_out(out, shape)
+        out = _output_array(out, shape)
         sine_degree_days32(a, b, c, s["lower"], s["upper"], METHODS.index(s["method"]),
                            CUTOFFS.index(s["cutoff"]), out.reshape(-1), parallel=parallel)
         self.last_exact_count = 0
