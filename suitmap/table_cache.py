@@ -163,7 +163,7 @@ def _prune(folder: Path, keep: Path) -> None:
             st = p.stat()
         except OSError:
             continue
-        files.append((st.st_mtime, st.st_size, p))
+        files.append((st.st_mtime_ns, st.st_size, p))
     total = sum(size for _, size, _ in files)
     for _, size, p in sorted(files, key=lambda f: f[0]):
         if total <= MAX_BYTES:
@@ -184,13 +184,17 @@ def cached_table(args: tuple, build: Callable[[], object]):
     if path.is_file():
         try:
             table = _load(path, key)
-            _touch(path)    # recently used: pruned last
-            return table
         except Exception:   # unreadable, truncated by hand, or another layout: rebuild
             pass
+        else:
+            try:
+                _touch(path)    # recently used: pruned last
+            except OSError:     # a read-only cache folder is still read
+                pass
+            return table
     table = build()
     try:
         _save(folder, path, key, table)
-    except OSError:         # read-only or full disk: use the table uncached
+    except (OSError, TypeError, ValueError):   # read-only or full disk: use it uncached
         pass
     return table

@@ -166,3 +166,15 @@ def test_least_recently_used_tables_are_pruned(folder, monkeypatch):
     assert build.calls == 3                         # both kept
     table_cache.cached_table(("mid",), build)
     assert build.calls == 4                         # it was the one pruned
+
+
+def test_read_only_folder_is_still_read(folder, monkeypatch):
+    build = Counter(lambda: development_table("linear", CURVES["linear"]))
+    table_cache.cached_table(("ro",), build)
+
+    def refuse(*a, **k):
+        raise PermissionError("read-only")
+
+    monkeypatch.setattr(table_cache, "_touch", refuse)
+    assert table_cache.cached_table(("ro",), build) is not None
+    assert build.calls == 1                          # read, not rebuilt
