@@ -68,6 +68,19 @@ def _asin_small(r: np.float32, z: np.float32) -> np.float32:
 
 
 @numba.njit(**_INLINE)
+def _asin(s: np.float32, gap: np.float32) -> np.float32:
+    """asin s for s in [-1, 1], given gap = (1 - |s|)/2 (used where |s| > 1/2;
+    the caller forms it without cancellation): asin|s| = π/2 - 2 asin √gap."""
+    a = abs(s)
+    big = a > _HALF
+    z = gap if big else a * a
+    r = math.sqrt(z) if big else a
+    p = _asin_small(r, z)
+    th = _HP - _TWO * p if big else p
+    return th if s >= _ZERO else -th
+
+
+@numba.njit(**_INLINE)
 def _angle(lo: np.float32, hi: np.float32, t: np.float32, inv: np.float32
            ) -> tuple[np.float32, np.float32]:
     """θ = asin(clip((t - M)/α, -1, 1)) and cos θ of the sine from lo to hi
@@ -83,14 +96,8 @@ def _angle(lo: np.float32, hi: np.float32, t: np.float32, inv: np.float32
     s = s if s < _ONE else _ONE
     s = s if s > -_ONE else -_ONE
     c = math.sqrt(up * dn) * inv
-    a = abs(s)
-    big = a > _HALF
     near = up if up < dn else dn
-    z = _HALF * near * inv if big else a * a
-    r = math.sqrt(z) if big else a
-    p = _asin_small(r, z)
-    th = _HP - _TWO * p if big else p
-    return (th if s >= _ZERO else -th), c
+    return _asin(s, _HALF * near * inv), c
 
 
 @numba.njit(**_INLINE)
@@ -187,13 +194,7 @@ def _parallel32(tmin, tmax, tnext, out, lower, upper, method, cutoff) -> None:
 def _asin_array(x, out) -> None:
     for i in range(x.size):
         s = x[i]
-        a = abs(s)
-        big = a > _HALF
-        z = _HALF * (_ONE - a) if big else a * a
-        r = math.sqrt(z) if big else a
-        p = _asin_small(r, z)
-        th = _HP - _TWO * p if big else p
-        out[i] = th if s >= _ZERO else -th
+        out[i] = _asin(s, _HALF * (_ONE - abs(s)))
 
 
 def asin32(x: np.ndarray) -> np.ndarray:
