@@ -237,7 +237,7 @@ def _patch_filechunks() -> None:
     """Dask chunks = the files' own HDF5 chunks, time included; nothing rechunked while
     opening.  (In the package: _open_netcdf chunks by ``encoding['chunksizes']``;
     open_climate and open_period drop their ``.chunk({'time': -1, ...})``.)"""
-    from suitmap import pipeline
+    from suitmap.pipeline import analysis as pipeline
 
     def rule(orig, self, chunks, *a, **kw):
         if self.chunks is not None:                       # already dask: keep its chunks
@@ -252,7 +252,7 @@ def _patch_seasonal() -> None:
     of one apply_ufunc over the whole time axis in one chunk; results concatenated."""
     import xarray as xr
 
-    from suitmap import layers
+    from suitmap.layers import compute as layers
     orig_apply = xr.apply_ufunc
 
     def rule(orig, self, chunks, *a, **kw):               # skip only the time -1 rechunk
@@ -309,9 +309,10 @@ def child(mode: str, work: Path, variant: str | None) -> dict:
     import xarray as xr
 
     import suitmap
-    from suitmap import outputs, pipeline
-    from suitmap.profile import load_profile
-    resume = sys.modules.get("suitmap.resume")          # the layer cache, where the package has one
+    from suitmap.pipeline import outputs
+    from suitmap.pipeline import analysis as pipeline
+    from suitmap.config.profile import load_profile
+    resume = sys.modules.get("suitmap.pipeline.folder")          # the layer cache, where the package has one
 
     for name in filter(None, (variant or "").split("+")):
         PATCHES[name]()

@@ -10,16 +10,16 @@ The Python API does what the command line does::
 Outputs are screening-level estimates, not a basis for control decisions.
 """
 
-__version__ = "0.1.0"
+from suitmap._version import __version__  # noqa: E402
 
-from .climate import open_climate  # noqa: E402
-from .compare import compare  # noqa: E402
-from .daily import daily_development, degree_days, development_rate  # noqa: E402
-from .layers import compute_layers, season_statistics  # noqa: E402
-from .outputs import write_outputs  # noqa: E402
-from .pipeline import check_run, compute_run, open_period, run  # noqa: E402
-from .profile import load_profile  # noqa: E402
-from .runfile import load_run  # noqa: E402
+from suitmap.climate import open_climate  # noqa: E402
+from suitmap.comparison.change import compare  # noqa: E402
+from suitmap.layers.api import daily_development, degree_days, development_rate  # noqa: E402
+from suitmap.layers.compute import compute_layers, season_statistics  # noqa: E402
+from suitmap.pipeline.outputs import write_outputs  # noqa: E402
+from suitmap.pipeline.analysis import check_run, compute_run, open_period, run  # noqa: E402
+from suitmap.config.profile import load_profile  # noqa: E402
+from suitmap.config.runfile import load_run  # noqa: E402
 
 __all__ = [
     "__version__", "open_climate", "compare", "degree_days", "development_rate",

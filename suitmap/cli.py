@@ -11,8 +11,8 @@ import sys
 import warnings
 from pathlib import Path
 
-from . import __version__
-from .errors import SuitmapError, SuitmapWarning
+from suitmap._version import __version__
+from suitmap.errors import SuitmapError, SuitmapWarning
 
 
 def _show_warning(message, category, filename, lineno, file=None, line=None):
@@ -25,7 +25,7 @@ def _progress_wanted(args) -> bool:
 
 
 def _cmd_demo(args) -> int:
-    from .demo import run_demo
+    from suitmap.pipeline.demo import run_demo
 
     out = Path(args.out)
     manifest = run_demo(out, overwrite=args.overwrite, progress=_progress_wanted(args))
@@ -39,7 +39,7 @@ def _cmd_demo(args) -> int:
 
 
 def _cmd_run(args) -> int:
-    from .pipeline import run
+    from suitmap.pipeline.analysis import run
 
     manifest = run(args.runfile, overwrite=args.overwrite, progress=_progress_wanted(args),
                    workers=args.workers, scheduler_address=args.scheduler)
@@ -50,7 +50,7 @@ def _cmd_run(args) -> int:
 
 
 def _cmd_check(args) -> int:
-    from .pipeline import check_run
+    from suitmap.pipeline.analysis import check_run
 
     run, profile, opened = check_run(args.runfile)
     print(f"run file: {run.path}")
@@ -70,11 +70,11 @@ def _cmd_check(args) -> int:
 
 
 def _cmd_fit(args) -> int:
-    from .fit import fit_all, linear_part
-    from .fit_report import plot_fits, read_lab_csv, write_profile_toml
+    from suitmap.fit import fit_all, linear_part
+    from suitmap.fit.report import plot_fits, read_lab_csv, write_profile_toml
     import numpy as np
 
-    from .kernels.rates import MODELS
+    from suitmap.kernels.rates import MODELS
 
     data = read_lab_csv(args.labdata)
     models = MODELS if args.model == "all" else tuple(args.model.split(","))

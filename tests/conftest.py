@@ -14,7 +14,7 @@ import numpy as np
 import pytest
 
 os.environ.setdefault("MPLBACKEND", "Agg")
-# tables cached on disk (suitmap.table_cache) go to a folder of this test run, not
+# tables cached on disk (suitmap.layers.table_cache) go to a folder of this test run, not
 # the user's cache (subprocesses inherit it), removed at exit
 os.environ["SUITMAP_CACHE_DIR"] = tempfile.mkdtemp(prefix="suitmap-test-cache-")
 atexit.register(shutil.rmtree, os.environ["SUITMAP_CACHE_DIR"], ignore_errors=True)

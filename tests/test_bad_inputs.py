@@ -128,7 +128,7 @@ def test_failure_mid_run_leaves_no_broken_file_and_resumes(small_case, capsys, m
     visibly incomplete), and a rerun of the same run file completes it."""
     import rasterio
 
-    import suitmap.outputs as outputs
+    import suitmap.pipeline.outputs as outputs
 
     calls = {"n": 0}
     real = outputs.write_cog

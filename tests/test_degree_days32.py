@@ -1,5 +1,5 @@
 """Tests of suitmap.kernels.degree_days32 (the float32 sine degree-days) and of
-the degree-day DailyTable strategies (suitmap.kernels.tables_degree_days).
+the degree-day DailyTable strategies (suitmap.kernels.tables.degree_days).
 
 References: Zalom et al. (1983) Table 7; scipy.integrate.quad of the sine
 day (the reference of tests/test_degree_days.py); numpy's float64 arcsine;

@@ -1,4 +1,4 @@
-"""suitmap.delta: delta-change downscaling of daily temperatures."""
+"""suitmap.climate.delta: delta-change downscaling of daily temperatures."""
 
 from __future__ import annotations
 
@@ -12,7 +12,7 @@ import pytest
 import rioxarray  # noqa: F401
 import xarray as xr
 
-from suitmap.delta import apply_deltas, monthly_deltas
+from suitmap.climate.delta import apply_deltas, monthly_deltas
 from suitmap.errors import InputError
 
 YEAR_LEN = {"noleap": 365, "360_day": 360, "all_leap": 366}

@@ -5,7 +5,7 @@ import pytest
 
 import suitmap
 from suitmap.errors import InputError
-from suitmap.scheduling import scheduler
+from suitmap.pipeline.scheduling import scheduler
 
 
 def test_local_cluster_matches_threaded(small_case):

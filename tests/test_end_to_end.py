@@ -13,7 +13,7 @@ import pytest
 import rasterio
 import xarray as xr
 
-from suitmap.metadata import NUMERIC_LAYERS
+from suitmap.layers.metadata import NUMERIC_LAYERS
 
 
 @pytest.fixture(scope="module")

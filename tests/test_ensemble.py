@@ -1,4 +1,4 @@
-"""suitmap.ensemble: statistics across climate models."""
+"""suitmap.comparison.ensemble: statistics across climate models."""
 
 from __future__ import annotations
 
@@ -11,16 +11,16 @@ import pytest
 import rioxarray  # noqa: F401
 import xarray as xr
 
-from suitmap.ensemble import ensemble_stats, hatch_mask
+from suitmap.comparison.ensemble import ensemble_stats, hatch_mask
 from suitmap.errors import GridMismatch, InputError
-from suitmap.metadata import layer_attrs
+from suitmap.layers.metadata import layer_attrs
 
 Y = np.array([50.5, 49.5])
 X = np.array([1.5, 2.5, 3.5])
 
 
 def member(change_dd, suit=None, *, x=X, chunks=None):
-    """A change dataset like suitmap.compare's: two numeric layers and one class layer."""
+    """A change dataset like suitmap.comparison.change's: two numeric layers and one class layer."""
     change_dd = np.asarray(change_dd, dtype="float32")
     suit = np.zeros_like(change_dd) if suit is None else np.asarray(suit, dtype="float32")
     ds = xr.Dataset(

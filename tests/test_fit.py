@@ -21,7 +21,7 @@ from suitmap.fit import (
     read_lab_csv, upper_limit, write_profile_toml,
 )
 from suitmap.kernels.rates import MODELS, PARAMS, development_rate
-from suitmap.profile import profile_from_dict
+from suitmap.config.profile import profile_from_dict
 
 if sys.version_info >= (3, 11):
     import tomllib

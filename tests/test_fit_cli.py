@@ -4,7 +4,7 @@ import numpy as np
 
 from suitmap.cli import main
 from suitmap.kernels.rates import development_rate
-from suitmap.profile import load_profile
+from suitmap.config.profile import load_profile
 
 
 def lab_csv(path, noise=0.02, seed=4):

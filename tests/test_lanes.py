@@ -1,5 +1,5 @@
-"""Tests of the vector table lookups (suitmap.kernels._lanes, _lanes_pl) and
-the lattice tables they read (suitmap.kernels.tables_grid._lattice_grid).
+"""Tests of the vector table lookups (suitmap.kernels.tables._lanes, _lanes_pl) and
+the lattice tables they read (suitmap.kernels.tables.grid._lattice_grid).
 
 The lookup must be the bilinear interpolant of the tabulated node values,
 Press, W.H. et al. (2007) Numerical Recipes, 3rd ed., eq. 3.6.5, computed
@@ -15,10 +15,10 @@ import numpy as np
 import pytest
 from test_development import CURVES  # published parameter sets (sources there)
 
-from suitmap.kernels import tables
-from suitmap.kernels._lanes import LANES, LATTICE_BITS
+from suitmap.kernels.tables import core as tables
+from suitmap.kernels.tables._lanes import LANES, LATTICE_BITS
 from suitmap.kernels.tables import degree_day_table, development_table
-from suitmap.kernels.tables_grid import _graded_axis, _lattice_grid
+from suitmap.kernels.tables.grid import _graded_axis, _lattice_grid
 
 
 def inputs(n: int, seed: int = 5):
@@ -114,7 +114,7 @@ def pl_table():
 
 @pytest.mark.parametrize("dtype", [np.float32, np.float64])
 def test_daylength_tables_vector_and_scalar_paths_give_the_same_bits(pl_table, dtype):
-    from suitmap.kernels import _pl_arcs
+    from suitmap.kernels.tables import _pl_arcs
     a, b, c = (x.astype(dtype) for x in inputs(3000, seed=9))
     d = np.random.default_rng(2).uniform(8.0, 16.5, a.size).astype(dtype)   # some outside
     day, arcs = pl_table.arcs[0], pl_table.arcs[1:]

@@ -1,4 +1,4 @@
-"""Tests of the pieces of the Parton-Logan tables (suitmap.kernels._pl_arcs)
+"""Tests of the pieces of the Parton-Logan tables (suitmap.kernels.tables._pl_arcs)
 against scipy.integrate.quad: the rate's primitive, the folding of the day
 sine into arcs, and the chord between planes.
 
@@ -16,9 +16,9 @@ import numpy as np
 import pytest
 from scipy.integrate import quad
 
-from suitmap.kernels import _pl_arcs as arcs
+from suitmap.kernels.tables import _pl_arcs as arcs
 from suitmap.kernels.rates import development_rate, model_code, pack_params, rate_limits
-from suitmap.kernels.tables import _graded_axis, _locator
+from suitmap.kernels.tables.grid import _graded_axis, _locator
 from test_development import CURVES
 
 A, C = 1.86, -0.17          # Parton & Logan (1981), air at 150 cm

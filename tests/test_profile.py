@@ -3,7 +3,7 @@
 import pytest
 
 from suitmap.errors import ProfileError
-from suitmap.profile import load_profile, profile_from_dict
+from suitmap.config.profile import load_profile, profile_from_dict
 
 
 def good():
@@ -115,8 +115,8 @@ def test_diurnal_must_be_known():
 
 
 def test_bundled_library_profiles_are_valid_and_invented():
-    from suitmap import library
-    from suitmap.profile import load_profile
+    from suitmap.config import library
+    from suitmap.config.profile import load_profile
 
     assert len(library.names()) >= 3
     roles = set()

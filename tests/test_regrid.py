@@ -1,4 +1,4 @@
-"""suitmap.regrid: grid comparison, bilinear / class resampling, duplicate days."""
+"""suitmap.spatial.regrid: grid comparison, bilinear / class resampling, duplicate days."""
 
 from __future__ import annotations
 
@@ -14,7 +14,7 @@ import xarray as xr
 from pyproj import Geod, Transformer
 
 from suitmap.errors import InputError, SuitmapWarning
-from suitmap.regrid import grids_match, remove_duplicate_times, snap_to_grid
+from suitmap.spatial.regrid import grids_match, remove_duplicate_times, snap_to_grid
 
 
 def field(west, north, res, ny, nx, func, *, crs="EPSG:4326", nt=None, dtype="float64", chunks=None):

@@ -5,7 +5,7 @@ import textwrap
 import pytest
 
 from suitmap.errors import RunFileError
-from suitmap.runfile import load_run
+from suitmap.config.runfile import load_run
 
 GOOD = """
 [profile]
@@ -53,7 +53,7 @@ def test_good_run_file_resolves_relative_paths(tmp_path):
 def test_threaded_scheduler_threads():
     import os
 
-    from suitmap.scheduling import EXTRA_THREADS, threads
+    from suitmap.pipeline.scheduling import EXTRA_THREADS, threads
     assert threads(5) == 5
     assert threads() == (os.cpu_count() or 1) + EXTRA_THREADS
 

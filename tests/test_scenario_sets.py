@@ -5,7 +5,7 @@ import textwrap
 import pytest
 
 from suitmap.errors import RunFileError
-from suitmap.runfile import load_run
+from suitmap.config.runfile import load_run
 
 HEAD = """
 [profile]

@@ -4,7 +4,7 @@ import numpy as np
 import pytest
 import xarray as xr
 
-from suitmap.seasons import (NO_SEASON, SeasonWindow, complete_seasons, season_labels,
+from suitmap.layers.seasons import (NO_SEASON, SeasonWindow, complete_seasons, season_labels,
                              season_length, time_fields)
 
 
@@ -47,7 +47,7 @@ def test_partial_window_and_360_day():
 
 
 def test_360_day_days_land_on_the_same_dates():
-    from suitmap.seasons import day360_to_365
+    from suitmap.layers.seasons import day360_to_365
 
     whole = SeasonWindow((1, 1), (12, 31))
     # 360_day 15 June is day 5*30+15 = 165 of the year; in a 365-day year 15 June is day 166

@@ -1,4 +1,4 @@
-"""The on-disk table cache (suitmap.table_cache): a stored table evaluates bit
+"""The on-disk table cache (suitmap.layers.table_cache): a stored table evaluates bit
 for bit as the one built, with numba's read-only array types restored; bad or
 foreign files are rebuilt, a changed kernel source or an "off" setting never
 reads one, and an unwritable folder only costs the cache."""
@@ -15,8 +15,10 @@ import pytest
 sys.path.insert(0, str(Path(__file__).parent))
 from test_development import CURVES  # noqa: E402  (published parameter sets, cited there)
 
-from suitmap import layers, table_cache  # noqa: E402
-from suitmap.kernels import _pl_arcs, tables  # noqa: E402
+from suitmap.layers import compute as layers  # noqa: E402
+from suitmap.layers import table_cache  # noqa: E402
+from suitmap.kernels.tables import _pl_arcs  # noqa: E402
+from suitmap.kernels.tables import core as tables  # noqa: E402
 from suitmap.kernels.tables import development_table  # noqa: E402
 
 

@@ -1,4 +1,4 @@
-"""Tests of suitmap.kernels.tables and suitmap.kernels.tables_daylength: the
+"""Tests of suitmap.kernels.tables and suitmap.kernels.tables.daylength: the
 fast daily kernels against the exact ones on seeded random days and seasons
 (every degree-day method x cutoff, every rate curve with the sine and the
 Parton-Logan day, the Parton-Logan day-length tables), NaN, the range
@@ -23,6 +23,7 @@ from suitmap.kernels.development import daily_development
 from suitmap.kernels.tables import (
     T_RANGE,
     DailyTable,
+    build_table,
     degree_day_table,
     development_table,
 )
@@ -210,7 +211,7 @@ def test_table_attributes_and_errors(dev_tables):
     assert 0 < t.nbytes < 20e6 and t.peak > 0 and t.build_seconds >= 0
     assert "DailyTable" in repr(t)
     with pytest.raises(ValueError, match="kind"):
-        DailyTable.build("rates", model="linear")
+        build_table("rates", model="linear")
     with pytest.raises(ValueError, match="option"):
         degree_day_table(L, U, "single_sine", "horizontal", spacing=0.1)
     with pytest.raises(ValueError, match="closed_form"):

@@ -24,7 +24,7 @@ from numpy.typing import ArrayLike
 
 # The per-day parts, also imported from here by other kernels (development,
 # degree_days_diurnal, season, tables): keep these names.
-from ._day_parts import (  # noqa: F401
+from suitmap.kernels._day_parts import (  # noqa: F401
     _HALF_PI, _HORIZONTAL, _INLINE, _INTERMEDIATE, _INV_PI, _JIT, _Q, _VERTICAL, _asin, _finish,
     _halves, _sin, _point_parts, _settle, _sine_gv, _sine_parts, _triangle_parts, _unit_clip)
 

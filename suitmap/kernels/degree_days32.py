@@ -43,7 +43,7 @@ import math
 import numba
 import numpy as np
 
-from ._day_parts import _HORIZONTAL, _INLINE, _JIT, _VERTICAL
+from suitmap.kernels._day_parts import _HORIZONTAL, _INLINE, _JIT, _VERTICAL
 
 __all__ = ["sine_degree_days32", "asin32"]
 

@@ -24,9 +24,9 @@ import numba
 import numpy as np
 from numpy.typing import ArrayLike
 
-from .degree_days import (CUTOFFS, _asin, _check_code, _finish, _float_dtype, _output_array,
+from suitmap.kernels.degree_days import (CUTOFFS, _asin, _check_code, _finish, _float_dtype, _output_array,
                           _point_parts, _sin, _thresholds, _unit_clip)
-from .diurnal import PARTON_LOGAN_150CM
+from suitmap.kernels.diurnal import PARTON_LOGAN_150CM
 
 __all__ = ["degree_days_parton_logan", "degree_days_parton_logan_block"]
 

@@ -25,12 +25,12 @@ import numba
 import numpy as np
 from numpy.typing import ArrayLike
 
-from .development_day import _JIT, _pl_day, _sine_day
-from .development_day import (  # noqa: F401  (re-exported: tables*.py call them as dev.<name>)
+from suitmap.kernels.development_day import _JIT, _pl_day, _sine_day
+from suitmap.kernels.development_day import (  # noqa: F401  (re-exported: tables*.py call them as dev.<name>)
     _HALF_PI, _INLINE, _asin, _branch, _pl_daytime, _pl_night, _pl_tabulated_range, _rate,
     _s_cross, _sin, _unit)
-from .diurnal import PARTON_LOGAN_150CM
-from .rates import model_code, pack_params, rate_limits, rate_scalar  # noqa: F401
+from suitmap.kernels.diurnal import PARTON_LOGAN_150CM
+from suitmap.kernels.rates import model_code, pack_params, rate_limits, rate_scalar  # noqa: F401
 
 __all__ = ["DIURNAL", "DEFAULT_NODES", "daily_development", "development_block",
            "accumulate_generations", "quadrature_nodes"]

@@ -23,8 +23,8 @@ import math
 import numba
 import numpy as np
 
-from .degree_days import _asin, _sin
-from .rates import rate_scalar
+from suitmap.kernels.degree_days import _asin, _sin
+from suitmap.kernels.rates import rate_scalar
 
 _HALF_PI = 0.5 * math.pi
 _INLINE = dict(cache=True, nogil=True, error_model="numpy", inline="always")

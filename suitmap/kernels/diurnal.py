@@ -24,7 +24,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 # quadrature over a day lives in day_quadrature; re-exported here
-from .day_quadrature import (  # noqa: F401
+from suitmap.kernels.day_quadrature import (  # noqa: F401
     _clip_day, _pl_nodes, daily_mean_of, day_nodes, parton_logan_nodes, sine_nodes)
 
 __all__ = ["PARTON_LOGAN_150CM", "SINE_HOUR_OF_MIN", "daily_mean_of", "day_nodes",

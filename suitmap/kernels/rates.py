@@ -28,10 +28,10 @@ import numpy as np
 from numpy.typing import ArrayLike
 from scipy.optimize import brentq, minimize_scalar
 
-from .rates_curves import (_BRIERE1, _BRIERE2, _LACTIN1, _LACTIN2, _LINEAR, _LOGAN6,
+from suitmap.kernels.rates_curves import (_BRIERE1, _BRIERE2, _LACTIN1, _LACTIN2, _LINEAR, _LOGAN6,
                            _PARALLEL_MIN, _SHARPE, KELVIN, MODELS, R_CAL, _fill_parallel,
                            _fill_range, _lactin_core, rate_scalar)
-from .rates_curves import _CHUNK, _JIT, _briere, _lactin, _linear, _sharpe_schoolfield  # noqa: F401
+from suitmap.kernels.rates_curves import _CHUNK, _JIT, _briere, _lactin, _linear, _sharpe_schoolfield  # noqa: F401
 
 __all__ = ["MODELS", "PARAMS", "R_CAL", "validate_params", "model_code", "pack_params",
            "rate_scalar", "rate_array", "development_rate", "rate_limits",

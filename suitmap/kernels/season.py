@@ -9,11 +9,11 @@ from __future__ import annotations
 import numba
 import numpy as np
 
-from .degree_days import CUTOFFS, METHODS, _check_code, _fill_range, _thresholds
-from .degree_days_diurnal import _coefficients
-from .diurnal import daylength
-from .degree_days_diurnal import _fill_range as _pl_fill_range
-from .degree_days32 import _range32
+from suitmap.kernels.degree_days import CUTOFFS, METHODS, _check_code, _fill_range, _thresholds
+from suitmap.kernels.degree_days_diurnal import _coefficients
+from suitmap.kernels.diurnal import daylength
+from suitmap.kernels.degree_days_diurnal import _fill_range as _pl_fill_range
+from suitmap.kernels.degree_days32 import _range32
 
 
 @numba.njit(cache=True, nogil=True)  # nogil: dask threads run blocks at once

@@ -17,7 +17,7 @@ import os
 from dataclasses import asdict, dataclass
 from pathlib import Path, PurePosixPath
 
-from suitmap import __version__
+from suitmap._version import __version__
 from suitmap.errors import OutputError
 from suitmap.writers.atomic import atomic_write_text, sha256_file
 

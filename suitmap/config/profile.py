@@ -1,0 +1,273 @@
+"""Organism profiles: the published thermal parameters of one organism.
+
+A profile is a TOML file with the tables ``[organism]``, ``[development]``,
+``[survival]`` and an optional ``[season]`` (see README, "Organism profile").
+This module validates it completely -- unknown keys, wrong types, impossible
+values -- and returns a frozen :class:`Profile`.  It does no I/O beyond
+reading the file.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import asdict, dataclass, field
+from pathlib import Path
+from typing import Any
+
+from suitmap.config.toml_file import read_toml
+from suitmap.errors import ProfileError
+from suitmap.kernels.degree_days import CUTOFFS, METHODS
+
+ROLES = ("pest", "beneficial", "pollinator", "crop", "other")
+DIURNAL = ("sine", "parton_logan")
+_MMDD = re.compile(r"^(\d{2})-(\d{2})$")
+
+
+@dataclass(frozen=True)
+class Organism:
+    name: str
+    role: str = "pest"
+    source: str = ""
+
+
+@dataclass(frozen=True)
+class RateCurve:
+    """A nonlinear development-rate model and its parameters (glossary names)."""
+
+    model: str
+    params: tuple[tuple[str, float], ...]
+
+    def as_dict(self) -> dict[str, float]:
+        return dict(self.params)
+
+
+@dataclass(frozen=True)
+class Development:
+    lower_threshold: float
+    upper_threshold: float
+    degree_days_per_generation: float | None
+    method: str = "single_sine"
+    cutoff: str = "horizontal"
+    rate_curve: RateCurve | None = None
+    diurnal: str = "sine"
+
+
+@dataclass(frozen=True)
+class Survival:
+    lethal_cold: float | None = None
+    lethal_heat: float | None = None
+
+
+@dataclass(frozen=True)
+class Season:
+    """Season window as (month, day) pairs; ``None`` means the hemisphere default."""
+
+    start: tuple[int, int] | None = None
+    end: tuple[int, int] | None = None
+
+    @property
+    def is_default(self) -> bool:
+        return self.start is None
+
+
+@dataclass(frozen=True)
+class Suitability:
+    saturating_generations: float = 2.0
+
+
+@dataclass(frozen=True)
+class Profile:
+    organism: Organism
+    development: Development
+    survival: Survival = field(default_factory=Survival)
+    season: Season = field(default_factory=Season)
+    suitability: Suitability = field(default_factory=Suitability)
+    path: str = ""
+
+    def to_dict(self) -> dict[str, Any]:
+        """Plain dict of the profile (for provenance metadata)."""
+        d = asdict(self)
+        d.pop("path")
+        s = d["season"]
+        for k in ("start", "end"):
+            s[k] = None if s[k] is None else f"{s[k][0]:02d}-{s[k][1]:02d}"
+        rc = self.development.rate_curve
+        d["development"]["rate_curve"] = (None if rc is None
+                                          else {"model": rc.model, **rc.as_dict()})
+        return d
+
+
+# key -> (types, required)
+_SCHEMA: dict[str, dict[str, tuple[tuple[type, ...], bool]]] = {
+    "organism": {"name": ((str,), True), "role": ((str,), False), "source": ((str,), False)},
+    "development": {
+        "lower_threshold": ((int, float), True),
+        "upper_threshold": ((int, float), True),
+        "degree_days_per_generation": ((int, float), False),
+        "method": ((str,), False),
+        "cutoff": ((str,), False),
+        "diurnal": ((str,), False),
+        "rate_curve": ((dict,), False),
+    },
+    "survival": {"lethal_cold": ((int, float), False), "lethal_heat": ((int, float), False)},
+    "season": {"start": ((str,), False), "end": ((str,), False)},
+    "suitability": {"saturating_generations": ((int, float), False)},
+}
+_REQUIRED_TABLES = ("organism", "development")
+
+
+def _check_table(raw: dict, table: str, where: str) -> dict:
+    section = raw.get(table, {})
+    if not isinstance(section, dict):
+        raise ProfileError(f"{where}: [{table}] must be a table")
+    schema = _SCHEMA[table]
+    for key, value in section.items():
+        if key not in schema:
+            allowed = ", ".join(schema)
+            raise ProfileError(f"{where}: unknown key {table}.{key}; allowed keys are {allowed}")
+        types, _ = schema[key]
+        if isinstance(value, bool) or not isinstance(value, types):
+            kind = "a number" if float in types else "a string"
+            raise ProfileError(f"{where}: {table}.{key} must be {kind}, got {value!r}")
+    for key, (_, required) in schema.items():
+        if required and key not in section:
+            raise ProfileError(f"{where}: missing required key {table}.{key}")
+    return section
+
+
+def _parse_mmdd(value: str, key: str, where: str) -> tuple[int, int]:
+    if value == "biofix":
+        raise ProfileError(
+            f"{where}: season.{key} = 'biofix' is not supported yet; give a date as MM-DD"
+        )
+    m = _MMDD.match(value)
+    if not m:
+        raise ProfileError(f"{where}: season.{key} must be a date as MM-DD, got {value!r}")
+    month, day = int(m.group(1)), int(m.group(2))
+    if not (1 <= month <= 12 and 1 <= day <= 31):
+        raise ProfileError(f"{where}: season.{key} = {value!r} is not a valid month and day")
+    if day > (29 if month == 2 else 30 if month in (4, 6, 9, 11) else 31):
+        raise ProfileError(f"{where}: season.{key} = {value!r} does not exist in any year")
+    return month, day
+
+
+def _rate_curve(raw: dict | None, where: str) -> RateCurve | None:
+    if raw is None:
+        return None
+    from suitmap.kernels.rates import MODELS, validate_params
+
+    raw = dict(raw)
+    model = raw.pop("model", None)
+    if model not in MODELS:
+        raise ProfileError(f"{where}: development.rate_curve.model must be one of "
+                           f"{', '.join(MODELS)}, got {model!r}")
+    for key, value in raw.items():
+        if isinstance(value, bool) or not isinstance(value, (int, float)):
+            raise ProfileError(f"{where}: development.rate_curve.{key} must be a number, got {value!r}")
+    try:
+        params = validate_params(model, raw)
+    except ValueError as exc:
+        raise ProfileError(f"{where}: development.rate_curve: {exc}") from None
+    return RateCurve(model, tuple(params.items()))
+
+
+def profile_from_dict(raw: dict[str, Any], where: str = "profile") -> Profile:
+    """Validate a profile given as a dict (as read from TOML)."""
+    for table in raw:
+        if table not in _SCHEMA:
+            raise ProfileError(
+                f"{where}: unknown table [{table}]; allowed tables are {', '.join(_SCHEMA)}"
+            )
+    for table in _REQUIRED_TABLES:
+        if table not in raw:
+            raise ProfileError(f"{where}: missing table [{table}]")
+    org = _check_table(raw, "organism", where)
+    dev = _check_table(raw, "development", where)
+    surv = _check_table(raw, "survival", where)
+    seas = _check_table(raw, "season", where)
+    suit = _check_table(raw, "suitability", where)
+
+    role = org.get("role", "pest")
+    if role not in ROLES:
+        raise ProfileError(f"{where}: organism.role must be one of {', '.join(ROLES)}, got {role!r}")
+    organism = Organism(name=org["name"], role=role, source=org.get("source", ""))
+
+    method = dev.get("method", "single_sine")
+    if method not in METHODS:
+        raise ProfileError(
+            f"{where}: development.method must be one of {', '.join(METHODS)}, got {method!r}"
+        )
+    cutoff = dev.get("cutoff", "horizontal")
+    if cutoff not in CUTOFFS:
+        raise ProfileError(
+            f"{where}: development.cutoff must be one of {', '.join(CUTOFFS)}, got {cutoff!r}"
+        )
+    lower = float(dev["lower_threshold"])
+    upper = float(dev["upper_threshold"])
+    if not lower < upper:
+        raise ProfileError(
+            f"{where}: development.lower_threshold ({lower}) must be below "
+            f"development.upper_threshold ({upper})"
+        )
+    rate_curve = _rate_curve(dev.get("rate_curve"), where)
+    if "degree_days_per_generation" in dev:
+        ddg = float(dev["degree_days_per_generation"])
+        if not ddg > 0:
+            raise ProfileError(
+                f"{where}: development.degree_days_per_generation must be positive, got {ddg}"
+            )
+    elif rate_curve is None:
+        raise ProfileError(f"{where}: missing required key development.degree_days_per_generation "
+                           "(or give a [development.rate_curve])")
+    else:
+        ddg = None
+    diurnal = dev.get("diurnal", "sine")
+    if diurnal not in DIURNAL:
+        raise ProfileError(
+            f"{where}: development.diurnal must be one of {', '.join(DIURNAL)}, got {diurnal!r}"
+        )
+    development = Development(lower, upper, ddg, method, cutoff, rate_curve, diurnal)
+
+    cold = surv.get("lethal_cold")
+    heat = surv.get("lethal_heat")
+    cold = None if cold is None else float(cold)
+    heat = None if heat is None else float(heat)
+    if cold is not None and cold >= lower:
+        raise ProfileError(
+            f"{where}: survival.lethal_cold ({cold}) must be below development.lower_threshold ({lower})"
+        )
+    if heat is not None and heat <= upper:
+        raise ProfileError(
+            f"{where}: survival.lethal_heat ({heat}) must be above development.upper_threshold ({upper})"
+        )
+    survival = Survival(cold, heat)
+
+    if ("start" in seas) != ("end" in seas):
+        raise ProfileError(f"{where}: give both season.start and season.end, or neither")
+    if "start" in seas:
+        start = _parse_mmdd(seas["start"], "start", where)
+        end = _parse_mmdd(seas["end"], "end", where)
+        season = Season(start, end)
+    else:
+        season = Season()
+
+    sat = float(suit.get("saturating_generations", 2.0))
+    if not sat > 0:
+        raise ProfileError(f"{where}: suitability.saturating_generations must be positive, got {sat}")
+
+    return Profile(organism, development, survival, season, Suitability(sat), path=str(where))
+
+
+def load_profile(path: str | Path) -> Profile:
+    """Read and validate an organism profile TOML file.
+
+    Raises
+    ------
+    ProfileError
+        With a one-line message naming the file and the offending key.
+    """
+    path = Path(path)
+    raw = read_toml(path, ProfileError, "profile")
+    prof = profile_from_dict(raw, where=f"profile {path}")
+    return Profile(prof.organism, prof.development, prof.survival, prof.season,
+                   prof.suitability, path=str(path))

@@ -1,0 +1,13 @@
+"""Fit development-rate curves to laboratory rearing data (``suitmap fit``).
+
+Modules: ``data`` (the lab table and its reader), ``start`` (bounds and
+starting values), ``curves`` (weighted least squares, intervals, ranking),
+``report`` (the profile TOML and the figure).
+"""
+
+from suitmap.fit.curves import FitResult, LinearPart, fit_all, fit_model, linear_part
+from suitmap.fit.data import MIN_TEMPERATURES, LabData, read_lab_csv
+from suitmap.fit.report import plot_fits, upper_limit, write_profile_toml
+
+__all__ = ["FitResult", "LabData", "LinearPart", "MIN_TEMPERATURES", "fit_all", "fit_model",
+           "linear_part", "plot_fits", "read_lab_csv", "upper_limit", "write_profile_toml"]

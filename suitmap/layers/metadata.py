@@ -1,0 +1,105 @@
+"""CF attributes and class codes of suitmap's output layers.
+
+The computation in :mod:`suitmap.layers.compute` produces bare arrays; this module is
+the one place that says what they mean (units, long names, CF standard names,
+``cell_methods``) and how class layers are coded.
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+#: Class layers: names in code order (code = index); 255 marks missing cells.
+LIMITING_FACTOR_CLASSES = ("none", "too_cool", "too_hot", "cold_kill", "heat_kill")
+CHANGE_CLASSES = ("stays_unsuitable", "becomes_suitable", "stays_suitable", "becomes_unsuitable")
+CLASS_LAYERS = {"limiting_factor": LIMITING_FACTOR_CLASSES, "change_class": CHANGE_CLASSES}
+MISSING_CLASS = 255
+
+_PERIOD_MEAN = "time: sum within years time: mean over years"
+
+LAYER_ATTRS: dict[str, dict[str, Any]] = {
+    "degree_days": {
+        "units": "K d",
+        "long_name": "degree-days above the lower developmental threshold accumulated over the season, mean over the period's seasons",
+        "standard_name": "integral_wrt_time_of_air_temperature_excess",
+        "cell_methods": _PERIOD_MEAN,
+    },
+    "generations": {
+        "units": "1",
+        "long_name": "generations completed per season (degree-days / thermal constant), mean over seasons",
+        "cell_methods": _PERIOD_MEAN,
+    },
+    "complete_generations": {
+        "units": "1",
+        "long_name": "whole generations completed per season, mean over seasons",
+        "cell_methods": _PERIOD_MEAN,
+    },
+    "first_generation_day": {
+        "units": "days",
+        "long_name": "day of season (1 = season start) on which the first generation completes, mean over seasons in which one completes",
+        "cell_methods": "time: mean over years where a generation completes",
+    },
+    "years_with_generation": {
+        "units": "1",
+        "long_name": "fraction of seasons with at least one complete generation",
+        "cell_methods": "time: mean over years",
+    },
+    "cold_kill_days": {
+        "units": "days",
+        "long_name": "days per season with daily minimum temperature at or below the lethal cold limit, mean over seasons",
+        "cell_methods": "time: sum within years time: mean over years",
+    },
+    "heat_kill_days": {
+        "units": "days",
+        "long_name": "days per season with daily maximum temperature at or above the lethal heat limit, mean over seasons",
+        "cell_methods": "time: sum within years time: mean over years",
+    },
+    "development_score": {
+        "units": "1",
+        "long_name": "development score: fraction of seasons with a generation times min(1, generations / saturating generations)",
+        "cell_methods": "time: mean over years",
+    },
+    "survival_score": {
+        "units": "1",
+        "long_name": "survival score: fraction of seasons without any lethal cold or heat day",
+        "cell_methods": "time: mean over years",
+    },
+    "suitability": {
+        "units": "1",
+        "long_name": "thermal suitability (development score times survival score), screening-level",
+        "cell_methods": "time: mean over years",
+    },
+    "limiting_factor": {
+        "units": "1",
+        "long_name": "factor that holds suitability down",
+        "flag_values": list(range(len(LIMITING_FACTOR_CLASSES))),
+        "flag_meanings": " ".join(LIMITING_FACTOR_CLASSES),
+    },
+    "change_class": {
+        "units": "1",
+        "long_name": "change of suitable status between baseline and scenario",
+        "flag_values": list(range(len(CHANGE_CLASSES))),
+        "flag_meanings": " ".join(CHANGE_CLASSES),
+    },
+}
+
+#: Numeric period layers in the order they are written.
+NUMERIC_LAYERS = (
+    "degree_days", "generations", "complete_generations", "first_generation_day",
+    "years_with_generation", "cold_kill_days", "heat_kill_days",
+    "development_score", "survival_score", "suitability",
+)
+
+
+def layer_attrs(name: str) -> dict[str, Any]:
+    """Attributes of layer ``name``; ``change_<layer>`` gets the layer's units."""
+    if name in LAYER_ATTRS:
+        return dict(LAYER_ATTRS[name])
+    if name.startswith("change_"):
+        base = LAYER_ATTRS[name[len("change_"):]]
+        return {
+            "units": base["units"],
+            "long_name": f"change (scenario minus baseline) of: {base['long_name']}",
+            "cell_methods": base.get("cell_methods", ""),
+        }
+    raise KeyError(name)
