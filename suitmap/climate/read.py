@@ -59,6 +59,7 @@ __all__ = ["COMMON_NAMES", "DEFAULT_CHUNKS", "open_climate", "resolve_paths"]
 DEFAULT_CHUNKS = {"y": 256, "x": 256}
 NETCDF_SUFFIXES = (".nc", ".nc4", ".netcdf", ".cdf")
 GEOTIFF_SUFFIXES = (".tif", ".tiff")
+ZARR_SUFFIXES = (".zarr",)   # a Zarr store: a folder, read with xarray's zarr engine
 COMMON_NAMES = {
     "tmin": ("tasmin", "tmin", "tn", "mn2t", "mn2t24", "t2m_min", "t2min", "tmn",
              "minimum_temperature", "min_temperature", "temperature_min", "air_temperature_min"),
@@ -88,7 +89,8 @@ def resolve_paths(pattern, base_dir=None, *, what: str = "input") -> list[Path]:
     for pat in patterns:
         p = Path(os.fspath(pat)).expanduser()
         full = p if p.is_absolute() else base / p
-        hits = [Path(h) for h in glob.glob(str(full), recursive=True) if Path(h).is_file()]
+        hits = [Path(h) for h in glob.glob(str(full), recursive=True)
+                if Path(h).is_file() or _is_zarr(Path(h))]
         if not hits:
             where = "" if p.is_absolute() else f" (looked in {base})"
             raise InputError(f"no {what} file matches '{os.fspath(pat)}'{where}; "
@@ -142,11 +144,23 @@ def _aligned(file_chunk, target: int, size: int) -> int:
     return int(min(size, file_chunk * max(1, target // file_chunk)))
 
 
+def _is_zarr(path: Path) -> bool:
+    return path.suffix.lower() in ZARR_SUFFIXES and path.is_dir()
+
+
 def _open_netcdf(path: Path, role: str, variable, cy, cx, file_chunks: bool = False) -> dict:
+    """A NetCDF file or a Zarr store (the same CF conventions, another container)."""
+    zarr = _is_zarr(path)
     try:
-        ds = xr.open_dataset(path, engine="netcdf4", decode_coords="all", mask_and_scale=True, cache=False)
-    except Exception as exc:  # netCDF4/xarray raise many kinds
-        raise InputError(f"cannot read {path} as NetCDF ({exc}); check the file") from exc
+        if zarr:
+            ds = xr.open_dataset(path, engine="zarr", decode_coords="all", mask_and_scale=True,
+                                 chunks=None)
+        else:
+            ds = xr.open_dataset(path, engine="netcdf4", decode_coords="all", mask_and_scale=True,
+                                 cache=False)
+    except Exception as exc:  # netCDF4/zarr/xarray raise many kinds
+        kind = "a Zarr store" if zarr else "NetCDF"
+        raise InputError(f"cannot read {path} as {kind} ({exc}); check the file") from exc
     name = _pick_variable(ds, role, variable, path)
     da = ds[name]
     where = f"{path.name}, variable '{name}'"
@@ -169,7 +183,8 @@ def _open_netcdf(path: Path, role: str, variable, cy, cx, file_chunks: bool = Fa
     cal = tcoord.encoding.get("calendar") or (
         tcoord.values.flat[0].calendar if tcoord.dtype == object else "standard")
     if file_chunks:  # follow the file's own chunks: no read touches a file chunk twice
-        fc = dict(zip(da.dims, da.encoding.get("chunksizes") or (None,) * da.ndim))
+        sizes = da.encoding.get("chunksizes") or da.encoding.get("chunks")   # NetCDF or Zarr
+        fc = dict(zip(da.dims, sizes or (None,) * da.ndim))
         da = da.chunk({tdim: _aligned(fc.get(tdim), 366, da.sizes[tdim]),
                        ydim: _aligned(fc.get(ydim), cy, da.sizes[ydim]),
                        xdim: _aligned(fc.get(xdim), cx, da.sizes[xdim])})
@@ -284,12 +299,13 @@ def open_climate(paths, role: str, *, variable: str | None = None, chunks: dict 
     pieces = []
     for path in files:
         suffix = path.suffix.lower()
-        if not path.is_file():
+        if not (path.is_file() or _is_zarr(path)):
             raise InputError(f"{label or role} file {path} does not exist; check the path")
-        if suffix not in NETCDF_SUFFIXES + GEOTIFF_SUFFIXES:
-            raise InputError(f"{path.name}: unknown file type '{suffix}'; use NetCDF (.nc) or GeoTIFF (.tif)")
-        p = (_open_netcdf(path, role, variable, cy, cx, file_chunks) if suffix in NETCDF_SUFFIXES
-             else _open_geotiff(path, cy, cx))
+        if suffix not in NETCDF_SUFFIXES + GEOTIFF_SUFFIXES + ZARR_SUFFIXES:
+            raise InputError(f"{path.name}: unknown file type '{suffix}'; use NetCDF (.nc), "
+                             "GeoTIFF (.tif) or a Zarr store (.zarr)")
+        p = (_open_netcdf(path, role, variable, cy, cx, file_chunks)
+             if suffix in NETCDF_SUFFIXES + ZARR_SUFFIXES else _open_geotiff(path, cy, cx))
         p["da"], p["crs"] = _normalise(p)
         pieces.append(p)
     p0, crs = pieces[0], pieces[0]["crs"]
