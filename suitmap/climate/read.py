@@ -47,9 +47,10 @@ import xarray as xr
 from pyproj import CRS
 
 from suitmap.climate.time_axis import _as_dates, _days, _iso, _ymd, select_years  # noqa: F401 (re-exported)
-from suitmap.climate.time_axis import _check_daily, _check_monthly, _drop_overlap, _is_monthly
+from suitmap.climate.time_axis import _check_daily, _check_monthly, _drop_overlap, _is_monthly, check_order
 from suitmap.climate.conventions import (_CALENDARS, _CFTIME_TYPES, _ISO_DATE, ROLES,  # noqa: F401
                                          _canonical_calendar, _canonical_units, _to_celsius)
+from suitmap.climate import plausibility
 from suitmap.climate.geotiff import _open_geotiff
 from suitmap.climate.grid import _TOL, _crs_text, _grid, check_same_grid  # noqa: F401
 from suitmap.errors import InputError, SuitmapWarning
@@ -254,7 +255,8 @@ def _axis_attrs(crs: CRS) -> dict:
 
 def open_climate(paths, role: str, *, variable: str | None = None, chunks: dict | None = None,
                  label: str = "", allow_monthly: bool = False,
-                 file_chunks: bool = False) -> xr.DataArray:
+                 file_chunks: bool = False, check_values: bool = False,
+                 accept_implausible: bool = False) -> xr.DataArray:
     """Open daily ``tmin`` or ``tmax`` from NetCDF/GeoTIFF files as one lazy °C array.
 
     Parameters
@@ -278,6 +280,12 @@ def open_climate(paths, role: str, *, variable: str | None = None, chunks: dict 
         Chunk along time too, following the NetCDF files' own chunks (about a
         year per chunk, spatial chunks a multiple of the file's near ``chunks``)
         instead of one chunk for the whole time axis; for streaming pipelines.
+    check_values : bool
+        Read every file once to refuse impossible or suspicious temperatures
+        (:mod:`suitmap.climate.plausibility`; one streamed pass per file).
+        Off by default (the result stays fully lazy); ``check`` and ``run`` turn it on.
+    accept_implausible : bool
+        Let the *suspicious* values of that check pass (never the impossible ones).
 
     Returns
     -------
@@ -306,7 +314,17 @@ def open_climate(paths, role: str, *, variable: str | None = None, chunks: dict 
                              "GeoTIFF (.tif) or a Zarr store (.zarr)")
         p = (_open_netcdf(path, role, variable, cy, cx, file_chunks)
              if suffix in NETCDF_SUFFIXES + ZARR_SUFFIXES else _open_geotiff(path, cy, cx))
+        raw = p["da"]
+        check_order(raw[p["dims"][0]].values, p["where"])
         p["da"], p["crs"] = _normalise(p)
+        plausibility.check_coordinates(raw[p["dims"][2]].values, raw[p["dims"][1]].values,
+                                       p["crs"].is_geographic, p["where"])
+        if check_values:
+            enc = raw.encoding
+            integer = np.issubdtype(np.dtype(enc.get("dtype", raw.dtype)), np.integer) and \
+                "scale_factor" not in enc
+            plausibility.check_values(raw, _canonical_units(p["units"], p["where"]), p["where"],
+                                      stored_integer=integer, accept_suspicious=accept_implausible)
         pieces.append(p)
     p0, crs = pieces[0], pieces[0]["crs"]
     for p in pieces[1:]:

@@ -15,7 +15,7 @@ from suitmap.config.toml_file import read_toml
 from suitmap.errors import RunFileError
 
 FORMATS = ("geotiff", "netcdf", "png")
-_NAME = re.compile(r"^[A-Za-z0-9][A-Za-z0-9_.\-]*$")
+_NAME = re.compile(r"^[A-Za-z0-9][A-Za-z0-9_.\-]{0,63}$")  # a folder name part: at most 64 characters
 
 
 @dataclass(frozen=True)
@@ -71,6 +71,7 @@ class RunFile:
     fast_tables: bool = True
     threads: int | None = None
     diurnal: str | None = None    # overrides the profile's development.diurnal
+    accept_implausible: bool = False  # let suspicious (not impossible) temperatures pass
     raw: dict[str, Any] = field(default_factory=dict, compare=False, repr=False)
 
     @property
@@ -121,12 +122,12 @@ def _period(table: Any, name_key: str, base: Path, where: str, kind: str,
           where, name_key)
     for key in ("model", "pathway", "period"):
         if key in table and not (isinstance(table[key], str) and _NAME.match(table[key])):
-            raise RunFileError(f"{where}: {name_key}.{key} must be a short name, got {table[key]!r}")
+            raise RunFileError(f"{where}: {name_key}.{key} must be a short name (at most 64 letters, digits, '-', '_', '.'), got {table[key]!r:.80}")
     name = table.get("name", default_name)
     if not isinstance(name, str) or not _NAME.match(name):
         raise RunFileError(
-            f"{where}: {name_key}.name must be a short name of letters, digits, '-', '_' or '.', "
-            f"got {name!r}"
+            f"{where}: {name_key}.name must be a short name of at most 64 letters, digits, '-', '_' "
+            f"or '.', got {name!r:.80}"
         )
     years = table.get("years")
     if (not isinstance(years, list) or len(years) != 2
@@ -134,6 +135,8 @@ def _period(table: Any, name_key: str, base: Path, where: str, kind: str,
         raise RunFileError(f"{where}: {name_key}.years must be [first, last], e.g. [1991, 2020]")
     if years[0] > years[1]:
         raise RunFileError(f"{where}: {name_key}.years first year {years[0]} is after last {years[1]}")
+    if not 1 <= years[0] <= years[1] <= 9999:
+        raise RunFileError(f"{where}: {name_key}.years must lie within 1 to 9999, got {years}")
     for var in ("tmin", "tmax"):
         if var not in table:
             raise RunFileError(f"{where}: missing key {name_key}.{var} (daily {var} files)")
@@ -256,11 +259,14 @@ def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
         raise RunFileError(f"{where}: [output] must be a table")
     _keys(out, ("dir", "formats", "suitable_level", "agreement_level"), where, "output")
     out_dir = out.get("dir", "results")
-    if not isinstance(out_dir, str) or not out_dir:
+    if not isinstance(out_dir, str) or not out_dir or len(out_dir) > 1024 or "\0" in out_dir:
         raise RunFileError(f"{where}: output.dir must be a folder name")
     formats = out.get("formats", list(FORMATS))
     if not isinstance(formats, list) or not all(isinstance(f, str) for f in formats):
         raise RunFileError(f"{where}: output.formats must be a list, e.g. [\"geotiff\", \"netcdf\"]")
+    if not formats:
+        raise RunFileError(f"{where}: output.formats is empty, so nothing would be written; "
+                           f"name at least one of {', '.join(FORMATS)} (or leave the key out for all)")
     for f in formats:
         if f not in FORMATS:
             raise RunFileError(
@@ -279,7 +285,10 @@ def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
     if not isinstance(compute, dict):
         raise RunFileError(f"{where}: [compute] must be a table")
     _keys(compute, ("chunk_cells", "monthly_route", "daily_sd", "fast_tables", "threads",
-                    "diurnal"), where, "compute")
+                    "diurnal", "accept_implausible"), where, "compute")
+    accept = compute.get("accept_implausible", False)
+    if not isinstance(accept, bool):
+        raise RunFileError(f"{where}: compute.accept_implausible must be true or false")
     fast = compute.get("fast_tables", True)
     if not isinstance(fast, bool):
         raise RunFileError(f"{where}: compute.fast_tables must be true or false")
@@ -287,8 +296,10 @@ def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
     if route not in ("interpolate", "normal"):
         raise RunFileError(f"{where}: compute.monthly_route must be \"interpolate\" or \"normal\"")
     sd = compute.get("daily_sd")
-    if sd is not None and (isinstance(sd, bool) or not isinstance(sd, (int, float)) or sd < 0):
-        raise RunFileError(f"{where}: compute.daily_sd must be a non-negative number (°C)")
+    if sd is not None and (isinstance(sd, bool) or not isinstance(sd, (int, float))
+                           or not 0 <= sd <= 30):
+        raise RunFileError(f"{where}: compute.daily_sd must be a finite number from 0 to 30 (°C), "
+                           f"got {sd!r}")
     chunk = compute.get("chunk_cells")
     if chunk is not None and (isinstance(chunk, bool) or not isinstance(chunk, int) or chunk < 1):
         raise RunFileError(f"{where}: compute.chunk_cells must be a positive whole number")
@@ -304,7 +315,7 @@ def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
     return RunFile(path=path, profile_path=Path(_resolve(base, prof["path"])), baseline=baseline,
                    scenarios=scenarios, output=output, chunk_cells=chunk, monthly_route=route,
                    daily_sd=None if sd is None else float(sd), fast_tables=fast,
-                   threads=threads, diurnal=diurnal, raw=raw)
+                   threads=threads, diurnal=diurnal, accept_implausible=accept, raw=raw)
 
 
 def load_run(path: str | Path) -> RunFile:

@@ -18,11 +18,14 @@ import xarray as xr
 
 from suitmap import climate
 from suitmap.comparison.change import compare
+from suitmap.climate.time_axis import check_same_calendar
 from suitmap.errors import InputError, SuitmapWarning
 from suitmap.layers.compute import compute_layers, season_windows
 from suitmap.config.profile import Profile, load_profile
 from suitmap.pipeline.folder import period_key
 from suitmap.config.runfile import Period, RunFile, load_run
+from suitmap.pipeline.preflight import (check_output_names, comparison_name, ensemble_name,  # noqa: F401
+                                        named_read_errors)
 from suitmap.pipeline.scheduling import threads
 
 #: Target size (bytes) of one spatial chunk of one daily variable in float32.
@@ -53,20 +56,24 @@ def _as_run(run: RunFile | str | Path) -> RunFile:
     return run if isinstance(run, RunFile) else load_run(run)
 
 
-def _open_role(src, role: str, label: str, years: tuple[int, int], extra: int):
+def _open_role(src, role: str, label: str, years: tuple[int, int], extra: int,
+               accept_implausible: bool = False):
     paths: list[Path] = []
     for pattern in src.patterns:
         paths.extend(climate.resolve_paths(pattern, what=f"{label} {role}"))
     side = chunk_side(366)
     da = climate.open_climate(paths, role, variable=src.variable, label=label,
-                              chunks={"y": side, "x": side}, file_chunks=True)
+                              chunks={"y": side, "x": side}, file_chunks=True,
+                              check_values=True,
+                                  accept_implausible=accept_implausible)
     first, last = years
     climate.select_years(da, first, last, label=f"{label} {role}")
     y = da["time"].dt.year
     return da.isel(time=np.flatnonzero(((y >= first) & (y <= last + extra)).values)), paths
 
 
-def delta_downscaled(period: Period, baseline: "PeriodClimate", profile: Profile) -> PeriodClimate:
+def delta_downscaled(period: Period, baseline: "PeriodClimate", profile: Profile,
+                     accept_implausible: bool = False) -> PeriodClimate:
     """Daily climate of a scenario by delta change: the baseline's observed days plus the
     model's smoothed change (future minus its own historical run), on the baseline grid."""
     from suitmap.climate.delta import apply_deltas, monthly_deltas
@@ -74,9 +81,10 @@ def delta_downscaled(period: Period, baseline: "PeriodClimate", profile: Profile
     d = period.delta
     out, files = {}, {}
     for role in ("tmin", "tmax"):
-        fut, fpaths = _open_role(getattr(period, role), role, period.name, period.years, 0)
+        fut, fpaths = _open_role(getattr(period, role), role, period.name, period.years, 0,
+                                 accept_implausible)
         hist, hpaths = _open_role(getattr(d, f"historical_{role}"), role,
-                                  f"{period.name} historical", d.historical_years, 0)
+                                  f"{period.name} historical", d.historical_years, 0, accept_implausible)
         deltas = monthly_deltas(hist, fut, smoothing=d.smoothing, window_days=d.window_days)
         base = getattr(baseline, role)
         out[role] = apply_deltas(base, deltas, template=base, target_years=None)
@@ -88,7 +96,8 @@ def delta_downscaled(period: Period, baseline: "PeriodClimate", profile: Profile
 
 
 def open_period(period: Period, profile: Profile, *, chunk_cells: int | None = None,
-                qa: bool = False, monthly_route: str = "interpolate") -> PeriodClimate:
+                qa: bool = False, monthly_route: str = "interpolate",
+                accept_implausible: bool = False) -> PeriodClimate:
     """Open, check and normalise the daily Tmin/Tmax of one period.
 
     The data are limited to the period's years (plus the following year
@@ -113,7 +122,8 @@ def open_period(period: Period, profile: Profile, *, chunk_cells: int | None = N
         side = chunk_side(366, chunk_cells)
         da = climate.open_climate(paths, role, variable=src.variable, label=period.name,
                                   allow_monthly=True, chunks={"y": side, "x": side},
-                                  file_chunks=True)
+                                  file_chunks=True, check_values=True,
+                                  accept_implausible=accept_implausible)
         first, last = period.years
         if da.attrs.get("frequency") == "monthly":
             if monthly_route == "normal":
@@ -131,6 +141,7 @@ def open_period(period: Period, profile: Profile, *, chunk_cells: int | None = N
     if (tmin.attrs.get("frequency") == "monthly") != (tmax.attrs.get("frequency") == "monthly"):
         raise InputError(f"{period.name}: one of tmin/tmax is daily and the other monthly; "
                          "give both at the same time step")
+    check_same_calendar(tmin, tmax, period.name)
     climate.check_same_grid(tmin, tmax, f"{period.name} tmin", f"{period.name} tmax")
     if tmin.sizes["time"] != tmax.sizes["time"] or not np.array_equal(
             tmin["time"].values, tmax["time"].values):
@@ -168,10 +179,12 @@ def check_run(run: RunFile | str | Path) -> tuple[RunFile, Profile, list[PeriodC
     Raises a :class:`~suitmap.errors.SuitmapError` on the first unusable input.
     """
     run = _as_run(run)
+    check_output_names(run)
     profile = effective_profile(run)
     opened = []
     for period in run.periods:
-        pc = open_period(period, profile, chunk_cells=run.chunk_cells, qa=True)
+        pc = open_period(period, profile, chunk_cells=run.chunk_cells, qa=True,
+                         accept_implausible=run.accept_implausible)
         opened.append(pc)
     from suitmap.spatial.regrid import grids_match
 
@@ -228,10 +241,6 @@ class RunLayers:
         return RunLayers(self.run, self.profile, periods, comps, self.inputs, ens, self.keys)
 
 
-def comparison_name(scenario: str, baseline: str) -> str:
-    return f"{scenario}_vs_{baseline}"
-
-
 def compute_run(run: RunFile | str | Path) -> RunLayers:
     """Lazy layers of every period and comparison of a run file."""
     run = _as_run(run)
@@ -243,11 +252,12 @@ def compute_run(run: RunFile | str | Path) -> RunLayers:
     base_clim = None
     for period in run.periods:
         if period.delta is not None:
-            pc = delta_downscaled(period, base_clim, profile)
+            pc = delta_downscaled(period, base_clim, profile, run.accept_implausible)
             years = run.baseline.years  # the baseline's days, shifted by the model's change
         else:
             pc = open_period(period, profile, chunk_cells=run.chunk_cells,
-                             monthly_route=run.monthly_route)
+                             monthly_route=run.monthly_route,
+                             accept_implausible=run.accept_implausible)
             years = period.years
         if base_clim is None:
             base_clim = pc
@@ -356,7 +366,7 @@ def ensemble_groups(run: RunFile, periods: dict[str, xr.Dataset],
         ds = xr.merge([layers, changes], combine_attrs="override", compat="override")
         ds.attrs.update({"pathway": pathway, "period": period, "models": ", ".join(sorted(members)),
                          "n_models": len(members), "baseline": run.baseline.name})
-        out[f"ensemble_{pathway}_{period}"] = ds
+        out[ensemble_name(pathway, period)] = ds
     return out
 
 
@@ -402,6 +412,7 @@ def run(run: RunFile | str | Path, *, overwrite: bool = False, progress: bool = 
     from suitmap.pipeline.scheduling import scheduler
 
     run = _as_run(run)
+    check_output_names(run)
     folder = OutputFolder(run.output.dir, run.path, overwrite)
     folder.check()
     lazy = compute_run(run)
@@ -413,7 +424,9 @@ def run(run: RunFile | str | Path, *, overwrite: bool = False, progress: bool = 
                 key = lazy.keys[name]
                 got = folder.load(name, key)
                 if got is None:
-                    computed = finish_period(_compute_one(ds, client, progress, f"{i}/{n} {name}"))
+                    with named_read_errors(f"period '{name}'", [f for fs in lazy.inputs[name].values()
+                                                                 for f in fs]):
+                        computed = finish_period(_compute_one(ds, client, progress, f"{i}/{n} {name}"))
                     got = folder.store(name, key, computed)
                 periods[name] = got
         comps, ens = derive(run, periods)

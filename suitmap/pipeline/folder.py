@@ -89,6 +89,9 @@ class OutputFolder:
     def check(self) -> None:
         """Refuse a folder this run may not write into (before any work)."""
         p = self.path
+        if p.is_symlink() and not p.exists():
+            raise OutputError(f"output path {p} is a link to {os.readlink(p)}, which does not exist; "
+                              "remove the link or choose another output.dir")
         if p.exists() and not p.is_dir():
             raise OutputError(f"output path {p} is a file, not a folder; choose another output.dir")
         if p.exists() and not self.overwrite and self.owner() != self.run_file:
