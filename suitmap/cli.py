@@ -15,11 +15,6 @@ from suitmap._version import __version__
 from suitmap.errors import SuitmapError, SuitmapWarning
 
 
-def _show_warning(message, category, filename, lineno, file=None, line=None):
-    text = str(message).splitlines()[0] if str(message) else category.__name__
-    print(f"suitmap: warning: {text}", file=sys.stderr)
-
-
 def _progress_wanted(args) -> bool:
     return not args.quiet and sys.stderr.isatty()
 
@@ -46,6 +41,16 @@ def _cmd_run(args) -> int:
     if not args.quiet:
         print(f"outputs:  {manifest.parent}")
         print(f"manifest: {manifest}")
+    return 0
+
+
+def _cmd_report(args) -> int:
+    from suitmap.writers.report import write_report
+
+    manifest = write_report(args.outdir)
+    if not args.quiet:
+        print(f"report:   {manifest.parent / 'report.html'}")
+        print(f"methods:  {manifest.parent / 'methods.md'}")
     return 0
 
 
@@ -151,14 +156,29 @@ def build_parser() -> argparse.ArgumentParser:
                        help="read every input of a run file and print a QA summary, computing nothing")
     p.add_argument("runfile", help="run file (TOML)")
     p.set_defaults(func=_cmd_check)
+
+    p = sub.add_parser("report", parents=[common],
+                       help="(re)write report.html and methods.md of an output folder")
+    p.add_argument("outdir", help="output folder of a run (holds manifest.json)")
+    p.set_defaults(func=_cmd_report)
     return parser
 
 
 def main(argv: list[str] | None = None) -> int:
     parser = build_parser()
     args = parser.parse_args(argv)
-    warnings.showwarning = _show_warning
+    from suitmap.pipeline.warnings_once import WarningCollector
+
+    collected = WarningCollector()  # alike warnings about many files: one line
+    warnings.showwarning = collected.showwarning
     warnings.simplefilter("always", SuitmapWarning)
+    try:
+        return _call(args)
+    finally:
+        collected.flush()
+
+
+def _call(args) -> int:
     try:
         return args.func(args)
     except SuitmapError as exc:

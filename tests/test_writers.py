@@ -241,7 +241,7 @@ def test_netcdf_cf_attributes_and_roundtrip(tmp_path, crs):
                        extra_attrs={"period": "baseline", "profile": {"name": "invented moth"}})
     with netCDF4.Dataset(out) as nc:
         assert nc.data_model == "NETCDF4"
-        assert nc.Conventions == "CF-1.8"
+        assert nc.Conventions == "CF-1.11"  # uint8 flags (CF-1.9), units_metadata (CF-1.11)
         assert nc.title == "invented moth, baseline"
         assert nc.source == "suitmap test grid"
         # Newest history line first, the earlier one kept.

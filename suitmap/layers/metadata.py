@@ -20,6 +20,7 @@ _PERIOD_MEAN = "time: sum within years time: mean over years"
 LAYER_ATTRS: dict[str, dict[str, Any]] = {
     "degree_days": {
         "units": "K d",
+        "units_metadata": "temperature: difference",
         "long_name": "degree-days above the lower developmental threshold accumulated over the season, mean over the period's seasons",
         "standard_name": "integral_wrt_time_of_air_temperature_excess",
         "cell_methods": _PERIOD_MEAN,
@@ -37,7 +38,9 @@ LAYER_ATTRS: dict[str, dict[str, Any]] = {
     "first_generation_day": {
         "units": "days",
         "long_name": "day of season (1 = season start) on which the first generation completes, mean over seasons in which one completes",
-        "cell_methods": "time: mean over years where a generation completes",
+        "cell_methods": "time: mean over years",
+        "comment": "the mean is over the seasons in which a generation completes",
+        "ancillary_variables": "first_generation_day_status",
     },
     "years_with_generation": {
         "units": "1",
@@ -83,6 +86,17 @@ LAYER_ATTRS: dict[str, dict[str, Any]] = {
     },
 }
 
+#: Companion flag of an event-day layer (``<layer>_status``): a cell whose
+#: climate is complete but where the event happens in no season is "never",
+#: which is not "no data" (255).  See :mod:`suitmap.layers.events`.
+EVENT_STATUS_CLASSES = ("occurs", "never")
+LAYER_ATTRS["first_generation_day_status"] = {
+    "units": "1",
+    "long_name": "whether the first generation completes in at least one season of the period",
+    "flag_values": [0, 1],
+    "flag_meanings": " ".join(EVENT_STATUS_CLASSES),
+}
+
 #: Numeric period layers in the order they are written.
 NUMERIC_LAYERS = (
     "degree_days", "generations", "complete_generations", "first_generation_day",
@@ -97,8 +111,9 @@ def layer_attrs(name: str) -> dict[str, Any]:
         return dict(LAYER_ATTRS[name])
     if name.startswith("change_"):
         base = LAYER_ATTRS[name[len("change_"):]]
+        extra = {k: base[k] for k in ("units_metadata",) if k in base}
         return {
-            "units": base["units"],
+            "units": base["units"], **extra,
             "long_name": f"change (scenario minus baseline) of: {base['long_name']}",
             "cell_methods": base.get("cell_methods", ""),
         }

@@ -11,11 +11,14 @@ Layout under ``output.dir``::
     <scenario>_vs_<baseline>/change_<layer>.tif, change_class.tif, ..., changes.nc
     manifest.json
     README.txt        what the folder holds and the screening-level caution
+    report.html       the self-contained report; methods.md the methods paragraph
+
+Beside each ``<layer>.tif``: ``<layer>.qml`` (QGIS) and ``<layer>.sld`` (OGC) styles, and
+for class layers ``<layer>.tif.aux.xml`` (GDAL category names).
 """
 
 from __future__ import annotations
 
-import json
 import os
 import shutil
 from pathlib import Path
@@ -24,17 +27,17 @@ import xarray as xr
 
 from suitmap._version import __version__
 from suitmap.errors import OutputError
+from suitmap.layers.events import add_event_status, is_event_day_layer, status_name
+from suitmap.pipeline import provenance as pv
+from suitmap.pipeline.provenance import CAUTION
 from suitmap.writers.cog import write_cog
 from suitmap.writers.figures import DEFAULT_CAUTION, plot_layer
 from suitmap.writers.atomic import atomic_write_text
+from suitmap.writers.gis_styles import write_styles
+from suitmap.writers.labels import short_label
 from suitmap.writers.manifest import Manifest
 from suitmap.writers.netcdf import write_netcdf
-
-CAUTION = (
-    "These layers are screening-level estimates from a thermal model and gridded climate. "
-    "They are not a basis for control decisions: consult your local plant-protection "
-    "authority and licensed practice."
-)
+from suitmap.writers.report import layer_readme_lines, write_report
 
 
 def check_output_dir(out_dir: Path, overwrite: bool) -> None:
@@ -88,15 +91,7 @@ class staged_folder:
 
 
 def _provenance(layers) -> dict:
-    run = layers.run
-    return {
-        "suitmap_version": __version__,
-        "run_file": str(run.path),
-        "profile_file": str(run.profile_path),
-        "profile": json.dumps(layers.profile.to_dict(), ensure_ascii=False),
-        "organism": layers.profile.organism.name,
-        "caution": CAUTION,
-    }
+    return pv.run_provenance(layers)
 
 
 def _history(run_path: Path) -> str:
@@ -105,23 +100,31 @@ def _history(run_path: Path) -> str:
 
 
 def _write_group(ds: xr.Dataset, folder: Path, group: str, kind: str, formats, manifest: Manifest,
-                 history: str, prov: dict, inputs: str, organism: str) -> None:
+                 history: str, prov: dict, inputs: str, organism: str, info: dict) -> None:
     folder.mkdir(parents=True, exist_ok=True)
     agreement = ds.attrs.get("agreement_level")
+    if kind == "period":
+        ds = add_event_status(ds)  # "never" is not "no data" (suitmap.layers.events)
+    tags = pv.geotiff_tags(prov, info)
     for name in ds.data_vars:
         da = ds[name]
         if "geotiff" in formats:
-            p = write_cog(da, folder / f"{name}.tif", layer=name,
-                          tags={"period_or_comparison": group, "suitmap_version": __version__})
+            p = write_cog(da, folder / f"{name}.tif", layer=name, tags=tags)
             manifest.add(p, layer=name, period_or_comparison=group, format="geotiff")
+            for style in write_styles(p, name, da.attrs, da.values):
+                manifest.add(style, layer=name, period_or_comparison=group,
+                             format=style.suffix.lstrip("."))
         if "png" in formats:
-            title = f"{organism}: {name.replace('_', ' ')}\n{kind} {group}"
+            title = pv.figure_title(organism, short_label(name), kind, info)
             hatch = None
             agree_name = name.replace("ensemble_median_", "model_agreement_", 1)
             if name.startswith("ensemble_median_change_") and agree_name in ds:
                 hatch = ds[agree_name] < (agreement or 2 / 3)
+            never = None
+            if is_event_day_layer(name) and status_name(name) in ds:
+                never = ds[status_name(name)] == 1
             p = plot_layer(da.rename(name), folder / f"{name}.png", title=title,
-                           caution=DEFAULT_CAUTION, hatch=hatch)
+                           caution=DEFAULT_CAUTION, hatch=hatch, never=never)
             manifest.add(p, layer=name, period_or_comparison=group, format="png")
     if "netcdf" in formats:
         fname = {"period": "layers.nc", "comparison": "changes.nc", "ensemble": "ensemble.nc"}[kind]
@@ -132,7 +135,9 @@ def _write_group(ds: xr.Dataset, folder: Path, group: str, kind: str, formats, m
         extra.update({"inputs": inputs, kind: group})
         extra.update({k: v for k, v in ds.attrs.items() if isinstance(v, (str, int, float))})
         p = write_netcdf(ds, folder / fname, title=title, history=history,
-                         source=f"suitmap {__version__}", extra_attrs=extra)
+                         source=f"suitmap {__version__}", extra_attrs=extra,
+                         climatology=pv.climatology_years(info),
+                         calendar=str(ds.attrs.get("calendar") or "standard"))
         manifest.add(p, layer="all", period_or_comparison=group, format="netcdf")
 
 
@@ -160,23 +165,23 @@ def write_outputs(layers, *, overwrite: bool = False, folder=None) -> Path:
     organism = layers.profile.organism.name
     before = folder.previous_outputs()
     (root / "manifest.json").unlink(missing_ok=True)  # incomplete until written again
-    manifest = Manifest(root, attrs=prov)
+    manifest = Manifest(root, attrs={**prov, **pv.run_summary(layers)})
     for name, ds in layers.periods.items():
         files = layers.inputs.get(name, {})
         inputs = "; ".join(Path(f).name for role in ("tmin", "tmax") for f in files.get(role, []))
         _write_group(ds, root / name, name, "period", formats, manifest, history, prov,
-                     inputs, organism)
+                     inputs, organism, pv.group_info(layers, name, "period", ds))
     for name, ds in layers.comparisons.items():
         inputs = "; ".join(f"{k}: " + ", ".join(Path(f).name for f in v.get("tmin", []) + v.get("tmax", []))
                            for k, v in layers.inputs.items()
                            if k in (ds.attrs.get("baseline"), ds.attrs.get("scenario")))
         _write_group(ds, root / name, name, "comparison", formats, manifest, history, prov,
-                     inputs, organism)
+                     inputs, organism, pv.group_info(layers, name, "comparison", ds))
     for name, ds in layers.ensembles.items():
         ds = ds.assign_attrs(agreement_level=run.output.agreement_level)
         inputs = "models: " + str(ds.attrs.get("models", ""))
         _write_group(ds, root / name, name, "ensemble", formats, manifest, history, prov,
-                     inputs, organism)
+                     inputs, organism, pv.group_info(layers, name, "ensemble", ds))
     readme = atomic_write_text(root / "README.txt", _readme_text(layers))
     manifest.add(readme, layer="readme", period_or_comparison="all", format="text")
     listed = {e.path for e in manifest.entries}
@@ -186,14 +191,15 @@ def write_outputs(layers, *, overwrite: bool = False, folder=None) -> Path:
     for sub in root.iterdir():
         if sub.is_dir() and sub.name != ".suitmap" and not any(sub.iterdir()):
             sub.rmdir()
-    return manifest.write(root / "manifest.json")
+    manifest.write(root / "manifest.json")
+    return write_report(root)  # report.html and methods.md, listed in the manifest
 
 
 def _readme_text(layers) -> str:
     run = layers.run
     lines = [
         f"suitmap {__version__} outputs for {layers.profile.organism.name}",
-        f"run file: {run.path}",
+        f"run file: {Path(run.path).name}",
         "",
         "CAUTION: " + CAUTION,
         "",
@@ -210,5 +216,9 @@ def _readme_text(layers) -> str:
         lines.append("ensembles across climate models (median, 10th/90th percentiles, agreement):")
         lines.extend(f"  {e}: {ds.attrs.get('models', '')}" for e, ds in layers.ensembles.items())
     lines += ["", "Each folder holds one GeoTIFF (COG) and one PNG per layer and one CF-NetCDF",
-              "with all layers; manifest.json lists every file with its SHA-256.", ""]
+              "with all layers; manifest.json lists every file with its SHA-256.",
+              "Beside each GeoTIFF: a QGIS style (.qml) and an OGC SLD (.sld); class layers",
+              "also a .tif.aux.xml with their class names. report.html is the whole run on one",
+              "page; methods.md a methods paragraph with citations.", ""]
+    lines += layer_readme_lines()
     return "\n".join(lines)

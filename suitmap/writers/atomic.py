@@ -19,7 +19,7 @@ from pathlib import Path
 from suitmap.errors import OutputError, SuitmapError
 
 __all__ = ["atomic_path", "atomic_write_bytes", "atomic_write_text", "sha256_file",
-           "TEMP_MARK"]
+           "TEMP_MARK", "share_mode", "current_umask"]
 
 #: Every temporary name contains this mark (``.<name>.<random>.part<suffix>``).
 TEMP_MARK = ".part"
@@ -30,6 +30,33 @@ _CHUNK = 1 << 20
 def _remove_quietly(path: str) -> None:
     with contextlib.suppress(FileNotFoundError):
         os.remove(path)
+
+
+def current_umask() -> int:
+    """The process umask, read without changing it where the system allows.
+
+    Linux reports it in ``/proc/self/status``; elsewhere it is read by setting
+    and restoring it (``os.umask`` has no read-only form).
+    """
+    try:
+        with open("/proc/self/status", encoding="ascii") as fh:
+            for line in fh:
+                if line.startswith("Umask:"):
+                    return int(line.split()[1], 8)
+    except (OSError, ValueError, IndexError):
+        pass
+    mask = os.umask(0o022)
+    os.umask(mask)
+    return mask
+
+
+def share_mode(path: str | os.PathLike) -> None:
+    """Give a finished file the mode a plain ``open()`` would: 0666 less the umask.
+
+    :func:`tempfile.mkstemp` creates files 0600 whatever the umask; an output
+    that keeps that mode cannot be read by colleagues or a map server.
+    """
+    os.chmod(path, 0o666 & ~current_umask())
 
 
 def _fsync_file(path: str) -> None:
@@ -93,6 +120,7 @@ def atomic_path(path: str | os.PathLike, *, durable: bool = True) -> Iterator[Pa
         yield Path(tmp)
         if not os.path.isfile(tmp):
             raise OutputError(f"writing {final} produced no file; this is a bug in suitmap")
+        share_mode(tmp)
         if durable:
             _fsync_file(tmp)
         os.replace(tmp, final)

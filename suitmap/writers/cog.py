@@ -38,6 +38,7 @@ from rasterio.shutil import copy as gdal_copy
 from suitmap.errors import OutputError
 from suitmap.writers import styles
 from suitmap.writers.atomic import atomic_path
+from suitmap.writers.labels import display_unit
 
 __all__ = ["write_cog", "choose_blocksize", "class_codes"]
 
@@ -207,6 +208,9 @@ def write_cog(da: xr.DataArray, path: str | os.PathLike, *, layer: str,
             mem.set_band_description(1, layer)
             mem.update_tags(1, **band_tags)
             mem.update_tags(**{**dataset_tags, "layer": layer})
+            unit = "" if is_class else display_unit(da.attrs.get("units"))
+            if unit:
+                mem.set_band_unit(1, unit)
             if is_class:
                 mem.write_colormap(1, colour_table)
             gdal_copy(mem, str(tmp), driver="COG", **options)

@@ -6,7 +6,12 @@ limits), ``RdBu_r`` with symmetric limits centred on zero for ``change_*``
 layers, the Okabe–Ito palette with a legend for class layers.  Missing cells
 are transparent over a light-grey, hatched background, so they cannot be
 mistaken for the near-white centre of the diverging map; the legend or the
-colour-bar caption says so.
+colour-bar caption says so.  Event-day layers draw cells where the event never
+happens (climate complete) in a solid colour of their own with a legend entry
+"never", distinct from "no data".  The colour bar carries a short label and
+the unit; a layer with one value everywhere says so instead of showing a
+made-up range.  Legends sit below the map inside the figure, so nothing is
+clipped when the PNG is printed.
 """
 
 from __future__ import annotations
@@ -29,6 +34,7 @@ from suitmap.errors import OutputError
 from suitmap.writers import styles
 from suitmap.writers.atomic import atomic_path
 from suitmap.writers.cog import class_codes
+from suitmap.writers.labels import label_with_unit
 
 __all__ = ["plot_layer", "layer_figure", "DEFAULT_CAUTION", "axis_labels"]
 
@@ -38,6 +44,7 @@ DEFAULT_CAUTION = ("Screening-level estimate — not a basis for control decisio
 _FIGSIZE = (8.0, 6.0)  # inches
 _DPI = 120
 _MISSING_LABEL = "no data"
+_NEVER_LABEL = "never (climate complete, in no season)"
 _HATCH = "////"
 
 
@@ -104,54 +111,61 @@ def _plot_classes(fig, ax, da, layer, values, extent) -> None:
               borderaxespad=0.0, frameon=False, title=layer.replace("_", " "))
 
 
-def _plot_continuous(fig, ax, da, layer, values, extent) -> None:
+def _plot_continuous(fig, ax, da, layer, values, extent, never=None) -> list:
+    """Draw a continuous layer; return the extra legend handles (no data, never)."""
     data = np.asarray(values, dtype=float)
     finite = np.isfinite(data)
-    kind = styles.layer_kind(layer, da.attrs)
     cmap = matplotlib.colormaps[styles.colormap_name(layer, da.attrs)].with_extremes(
         bad=(0, 0, 0, 0))
-    if kind == "change":
-        limit = float(np.nanmax(np.abs(data[finite]))) if finite.any() else 0.0
-        limit = limit if limit > 0 else 1.0
-        norm = Normalize(vmin=-limit, vmax=limit)
-    elif kind == "suitability":
-        norm = Normalize(vmin=0.0, vmax=1.0)
-    else:
-        lo, hi = (float(data[finite].min()), float(data[finite].max())) if finite.any() \
-            else (0.0, 1.0)
-        if hi <= lo:
-            lo, hi = lo - 0.5, hi + 0.5
-        norm = Normalize(vmin=lo, vmax=hi)
+    lo, hi = styles.colour_limits(layer, da.attrs, data)
+    norm = Normalize(vmin=lo, vmax=hi)
     image = ax.imshow(np.ma.masked_invalid(data), cmap=cmap, norm=norm, extent=extent,
                       origin="upper", interpolation="nearest", zorder=1)
     bar = fig.colorbar(image, ax=ax, shrink=0.9, pad=0.02)
-    name = da.attrs.get("long_name", layer.replace("_", " "))
-    bar.set_label(f"{name} {_unit_text(da.attrs.get('units'))}")
-    if not finite.all():
-        ax.legend(handles=[_missing_patch()], loc="upper right", bbox_to_anchor=(1.0, -0.08),
-                  frameon=False, fontsize="small")
+    label = label_with_unit(layer, da.attrs)
+    uniform = finite.any() and float(np.nanmin(data)) == float(np.nanmax(data))
+    if uniform:
+        value = float(data[finite][0])
+        bar.set_ticks([value])
+        label = f"{label}: {value:g} everywhere"
+    bar.set_label(label)
+    handles = []
+    missing = ~finite
+    if never is not None:
+        never = np.asarray(never, dtype=bool) & missing
+        if never.any():
+            colour = styles.rgb_to_hex(styles.OKABE_ITO[styles.EVENT_STATUS_COLOURS["never"]])
+            ax.imshow(np.ma.masked_where(~never, np.ones(never.shape)),
+                      cmap=ListedColormap([colour]), extent=extent, origin="upper",
+                      interpolation="nearest", zorder=1.5)
+            handles.append(Patch(facecolor=colour, edgecolor="#555555", label=_NEVER_LABEL))
+            missing = missing & ~never
+    if missing.any():
+        handles.append(_missing_patch())
+    return handles
 
 
-def _draw_hatch(ax, mask: np.ndarray, extent, label: str) -> None:
+def _draw_hatch(ax, mask: np.ndarray, extent, label: str) -> list:
     """Hatch the cells where ``mask`` is True (e.g. where climate models disagree)."""
     if not mask.any():
-        return
+        return []
     ny, nx = mask.shape
     x = np.linspace(extent[0], extent[1], nx + 1)
     y = np.linspace(extent[3], extent[2], ny + 1)
     ax.pcolor(x, y, np.ma.masked_where(~mask, np.ones(mask.shape)), hatch="////", alpha=0.0,
               shading="flat", zorder=2)
-    ax.legend(handles=[Patch(facecolor="none", edgecolor="#333333", hatch="////", label=label)],
-              loc="upper left", bbox_to_anchor=(0.0, -0.08), frameon=False, fontsize="small")
+    return [Patch(facecolor="none", edgecolor="#333333", hatch="////", label=label)]
 
 
 def layer_figure(da: xr.DataArray, *, title: str, caution: str = DEFAULT_CAUTION,
                  hatch: xr.DataArray | None = None,
-                 hatch_label: str = "models disagree") -> Figure:
+                 hatch_label: str = "models disagree",
+                 never: xr.DataArray | None = None) -> Figure:
     """Draw one layer on a new :class:`~matplotlib.figure.Figure` (Agg canvas).
 
     The map is ``figure.axes[0]``.  See :func:`plot_layer` for the parameters;
-    ``hatch`` is a boolean (y, x) mask on the same grid whose True cells are hatched.
+    ``hatch`` is a boolean (y, x) mask on the same grid whose True cells are hatched;
+    ``never`` one whose True cells (missing in *da*) are drawn as "never", not "no data".
 
     Raises
     ------
@@ -181,14 +195,22 @@ def layer_figure(da: xr.DataArray, *, title: str, caution: str = DEFAULT_CAUTION
     FigureCanvasAgg(fig)
     ax = fig.add_subplot()
     _draw_missing_background(ax, extent)
+    def on_grid(mask: xr.DataArray) -> np.ndarray:
+        m = mask.squeeze(drop=True).transpose(*mask.dims[-2:])
+        m = m.sel({m.dims[0]: da[ydim].values, m.dims[1]: da[xdim].values})
+        return np.asarray(m.values, dtype=bool)
+
+    handles: list = []
     if styles.is_class_layer(layer, da.attrs):
         _plot_classes(fig, ax, da, layer, values, extent)
     else:
-        _plot_continuous(fig, ax, da, layer, values, extent)
+        handles += _plot_continuous(fig, ax, da, layer, values, extent,
+                                    never=None if never is None else on_grid(never))
     if hatch is not None:
-        h = hatch.squeeze(drop=True).transpose(*hatch.dims[-2:])
-        h = h.sel({h.dims[0]: da[ydim].values, h.dims[1]: da[xdim].values})
-        _draw_hatch(ax, np.asarray(h.values, dtype=bool), extent, hatch_label)
+        handles += _draw_hatch(ax, on_grid(hatch), extent, hatch_label)
+    if handles:
+        ax.legend(handles=handles, loc="upper center", bbox_to_anchor=(0.5, -0.12),
+                  ncol=min(len(handles), 2), frameon=False, fontsize="small")
     ax.set_xlim(extent[0], extent[1])
     ax.set_ylim(extent[2], extent[3])
     if crs is not None and pyproj.CRS.from_user_input(crs.to_wkt()).is_geographic:
@@ -210,7 +232,7 @@ def layer_figure(da: xr.DataArray, *, title: str, caution: str = DEFAULT_CAUTION
 
 def plot_layer(da: xr.DataArray, path: str | os.PathLike, *, title: str,
                caution: str = DEFAULT_CAUTION, hatch: xr.DataArray | None = None,
-               hatch_label: str = "models disagree") -> Path:
+               hatch_label: str = "models disagree", never: xr.DataArray | None = None) -> Path:
     """Draw one layer as a PNG map.
 
     Parameters
@@ -239,7 +261,8 @@ def plot_layer(da: xr.DataArray, path: str | os.PathLike, *, title: str,
     """
     final = Path(path)
     try:
-        fig = layer_figure(da, title=title, caution=caution, hatch=hatch, hatch_label=hatch_label)
+        fig = layer_figure(da, title=title, caution=caution, hatch=hatch, hatch_label=hatch_label,
+                           never=never)
     except OutputError as exc:
         raise OutputError(f"cannot draw {final.name}: {exc}") from exc
     with atomic_path(final) as tmp:

@@ -1,4 +1,4 @@
-"""CF-1.8 NetCDF4 writer of a dataset of layers.
+"""CF-1.11 NetCDF4 writer of a dataset of layers.
 
 Each layer keeps its CF attributes (``units``, ``long_name``,
 ``standard_name``, ``cell_methods``, ``description``) and points with
@@ -6,14 +6,18 @@ Each layer keeps its CF attributes (``units``, ``long_name``,
 ``crs_wkt`` and the CF grid-mapping parameters).  Continuous layers keep
 their float dtype (float32 round-trips exactly) with NaN as ``_FillValue``;
 class layers are uint8 with ``flag_values``/``flag_meanings`` and
-``_FillValue`` 255.  Everything is zlib-compressed with the shuffle filter.
+``_FillValue`` 255.  Everything is zlib-compressed with the shuffle filter.  Given the period's
+years, the layers get a climatological ``time`` coordinate with bounds
+(:mod:`suitmap.writers.cf_time`).  ``Conventions`` is CF-1.11: unsigned
+bytes need CF-1.9 and ``units_metadata`` of degree-days CF-1.11.
 Dask-backed layers are computed chunk by chunk while xarray writes them.
 
 References
 ----------
-Eaton, B. et al. (2020) NetCDF Climate and Forecast (CF) Metadata
-Conventions, version 1.8 — sections 2.6 (attributes), 3.5 (flags),
-4.1–4.2 (coordinates), 5.6 (grid mappings).
+Eaton, B. et al. (2023) NetCDF Climate and Forecast (CF) Metadata
+Conventions, version 1.11 — sections 2.2 (data types), 2.6 (attributes),
+3.1.2 (temperature units_metadata), 3.5 (flags), 4.1–4.2 (coordinates),
+5.6 (grid mappings), 7.3–7.4 (cell methods, climatological statistics).
 """
 
 from __future__ import annotations
@@ -34,11 +38,12 @@ import xarray as xr
 from suitmap.errors import OutputError
 from suitmap.writers import styles
 from suitmap.writers.atomic import atomic_path
+from suitmap.writers.cf_time import BOUNDS_NAME, climatology_variables
 from suitmap.writers.cog import class_codes
 
 __all__ = ["write_netcdf", "CONVENTIONS"]
 
-CONVENTIONS = "CF-1.8"
+CONVENTIONS = "CF-1.11"
 GRID_MAPPING = "spatial_ref"
 _COMPLEVEL = 4
 _CHUNK = 512
@@ -189,8 +194,10 @@ def _merge_history(new: str, old) -> str:
 
 
 def write_netcdf(ds: xr.Dataset, path: str | os.PathLike, *, title: str, history: str,
-                 source: str, extra_attrs: dict | None = None) -> Path:
-    """Write a dataset of layers as one CF-1.8 NetCDF4 file.
+                 source: str, extra_attrs: dict | None = None,
+                 climatology: tuple[int, int] | None = None,
+                 calendar: str = "standard") -> Path:
+    """Write a dataset of layers as one CF-1.11 NetCDF4 file.
 
     Parameters
     ----------
@@ -206,6 +213,9 @@ def write_netcdf(ds: xr.Dataset, path: str | os.PathLike, *, title: str, history
         More global attributes (provenance); dicts and lists are stored as
         JSON text.  They override *ds*'s attributes; ``Conventions``, *title*,
         *history* and *source* override them.
+    climatology, calendar
+        First and last year of the period the layers summarise, and its
+        calendar: adds a climatological ``time`` coordinate with bounds.
 
     Returns
     -------
@@ -256,13 +266,21 @@ def write_netcdf(ds: xr.Dataset, path: str | os.PathLike, *, title: str, history
     attrs.pop("Conventions", None)
     attrs = {"Conventions": CONVENTIONS, **attrs}
 
+    if climatology is not None:
+        coords["time"], variables[BOUNDS_NAME] = climatology_variables(climatology, calendar)
+        encoding["time"] = {"_FillValue": None}
+        encoding[BOUNDS_NAME] = {"_FillValue": None}
     out = xr.Dataset(variables, coords=coords, attrs=attrs)
     out = out.rio.write_crs(crs, grid_mapping_name=GRID_MAPPING, inplace=False)
     out = out.rio.write_transform(base.rio.transform(recalc=True),
                                   grid_mapping_name=GRID_MAPPING, inplace=False)
     for name in variables:  # grid_mapping lives in attrs; keep encoding free of it
+        if name == BOUNDS_NAME:
+            continue
         out[name].encoding.pop("grid_mapping", None)
         out[name].attrs["grid_mapping"] = GRID_MAPPING
+        if climatology is not None:
+            out[name].encoding["coordinates"] = "time"
     # A grid-mapping variable is not an auxiliary coordinate (CF 5.6): store it as a
     # plain variable so xarray does not list it in each layer's ``coordinates``.
     out = out.reset_coords(GRID_MAPPING)

@@ -54,6 +54,10 @@ CLASS_COLOURS: dict[str, dict[str, str]] = {
     },
 }
 
+#: Colours of the companion flag of event-day layers (``<layer>_status``);
+#: ``never`` is also the colour of "never" cells on the event-day map itself.
+EVENT_STATUS_COLOURS = {"occurs": "sky_blue", "never": "vermillion"}
+
 #: Code of missing cells in class layers (uint8 rasters and NetCDF).
 CLASS_NODATA = 255
 
@@ -113,6 +117,29 @@ def is_diverging(layer: str, attrs: Mapping | None = None) -> bool:
     return layer_kind(layer, attrs) == "change"
 
 
+def colour_limits(layer: str, attrs: Mapping | None, values) -> tuple[float, float]:
+    """Value range a figure or style file maps onto the colours of *layer*.
+
+    Suitability layers 0–1; change layers symmetric about zero (±max |value|,
+    ±1 when all cells are 0); other layers the data range.  A layer with one
+    value everywhere gets the range [value, value + 1] (a one-colour map has no
+    meaningful range; the figure says "same value everywhere").
+    """
+    data = np.asarray(values, dtype=float)
+    finite = data[np.isfinite(data)]
+    kind = layer_kind(layer, attrs)
+    if kind == "change":
+        limit = float(np.abs(finite).max()) if finite.size else 0.0
+        limit = limit if limit > 0 else 1.0
+        return -limit, limit
+    if kind == "suitability" and not layer.startswith("model_agreement"):
+        return 0.0, 1.0
+    if not finite.size:
+        return 0.0, 1.0
+    lo, hi = float(finite.min()), float(finite.max())
+    return (lo, lo + 1.0) if hi <= lo else (lo, hi)
+
+
 def parse_flags(attrs: Mapping) -> tuple[list[int], list[str]]:
     """CF ``flag_values`` and ``flag_meanings`` of a class layer as two lists.
 
@@ -144,7 +171,7 @@ def class_colours(layer: str, meanings: Sequence[str]) -> dict[str, RGB]:
     ValueError
         If there are more unknown classes than free Okabe–Ito colours.
     """
-    fixed = CLASS_COLOURS.get(layer, {})
+    fixed = CLASS_COLOURS.get(layer, EVENT_STATUS_COLOURS if layer.endswith("_status") else {})
     used = {fixed[m] for m in meanings if m in fixed}
     free = [name for name in OKABE_ITO if name not in used]
     out: dict[str, RGB] = {}
@@ -161,10 +188,11 @@ def class_colours(layer: str, meanings: Sequence[str]) -> dict[str, RGB]:
 
 def gdal_colour_table(layer: str, values: Sequence[int],
                       meanings: Sequence[str]) -> dict[int, RGBA]:
-    """Colour table (code → RGBA) of a uint8 class raster; 255 is transparent."""
+    """Colour table (code → RGBA) of a uint8 class raster: all 256 entries, every
+    code that is not a class (and 255, missing) fully transparent."""
     colours = class_colours(layer, meanings)
-    table: dict[int, RGBA] = {int(v): (*colours[m], 255) for v, m in zip(values, meanings)}
-    table[CLASS_NODATA] = NODATA_RGBA
+    table: dict[int, RGBA] = {code: NODATA_RGBA for code in range(256)}
+    table.update({int(v): (*colours[m], 255) for v, m in zip(values, meanings)})
     return table
 
 
