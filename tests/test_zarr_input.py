@@ -19,7 +19,7 @@ from suitmap.pipeline.demo import prepare_demo
 def _to_zarr(folder):
     for nc in sorted(folder.glob("baseline_*.nc")):
         with xr.open_dataset(nc, decode_coords="all") as ds:
-            ds.to_zarr(nc.with_suffix(".zarr"), mode="w")
+            ds.to_zarr(nc.with_suffix(".zarr"), mode="w", consolidated=False)
 
 
 def test_zarr_and_netcdf_give_identical_layers(tmp_path):
