@@ -155,7 +155,7 @@ def _open_netcdf(path: Path, role: str, variable, cy, cx, file_chunks: bool = Fa
     try:
         if zarr:
             ds = xr.open_dataset(path, engine="zarr", decode_coords="all", mask_and_scale=True,
-                                 chunks=None)
+                                 chunks=None, consolidated=(path / ".zmetadata").is_file())
         else:
             ds = xr.open_dataset(path, engine="netcdf4", decode_coords="all", mask_and_scale=True,
                                  cache=False)
