@@ -55,7 +55,7 @@ class Output:
     dir: Path
     formats: tuple[str, ...] = FORMATS
     suitable_level: float = 0.5
-    agreement_level: float = 2 / 3
+    agreement_level: float = 0.8   # IPCC AR6 Atlas simple approach (comparison.robustness)
 
 
 @dataclass(frozen=True)
@@ -269,9 +269,10 @@ def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
     level = out.get("suitable_level", 0.5)
     if isinstance(level, bool) or not isinstance(level, (int, float)) or not 0 < level <= 1:
         raise RunFileError(f"{where}: output.suitable_level must be a number in (0, 1]")
-    agree = out.get("agreement_level", 2 / 3)
-    if isinstance(agree, bool) or not isinstance(agree, (int, float)) or not 0 < agree <= 1:
-        raise RunFileError(f"{where}: output.agreement_level must be a number in (0, 1]")
+    agree = out.get("agreement_level", 0.8)
+    if isinstance(agree, bool) or not isinstance(agree, (int, float)) or not 0.5 < agree <= 1:
+        raise RunFileError(f"{where}: output.agreement_level must be a number above 0.5 and at "
+                           "most 1 (default 0.8, the IPCC AR6 Atlas level)")
     output = Output(Path(_resolve(base, out_dir)), tuple(dict.fromkeys(formats)), float(level),
                     float(agree))
 

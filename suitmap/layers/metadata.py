@@ -13,6 +13,8 @@ from typing import Any
 LIMITING_FACTOR_CLASSES = ("none", "too_cool", "too_hot", "cold_kill", "heat_kill")
 CHANGE_CLASSES = ("stays_unsuitable", "becomes_suitable", "stays_suitable", "becomes_unsuitable")
 CLASS_LAYERS = {"limiting_factor": LIMITING_FACTOR_CLASSES, "change_class": CHANGE_CLASSES}
+#: ``robust_change_<layer>`` of an ensemble (rule: suitmap.comparison.robustness).
+ROBUST_CHANGE_CLASSES = ("no_robust_signal", "robust", "conflicting_signals")
 MISSING_CLASS = 255
 
 _PERIOD_MEAN = "time: sum within years time: mean over years"
