@@ -50,9 +50,14 @@ def _cmd_run(args) -> int:
 
 
 def _cmd_check(args) -> int:
+    from suitmap.config.runfile import load_run
     from suitmap.pipeline.analysis import check_run
 
-    run, profile, opened = check_run(args.runfile)
+    loaded = load_run(args.runfile)
+    if loaded.inventory:  # before reading the files: what the scenario sets found and lack
+        print("scenario sets (model × pathway × period):")
+        print("\n".join(f"  {line}" for line in loaded.inventory), flush=True)
+    run, profile, opened = check_run(loaded)
     print(f"run file: {run.path}")
     print(f"profile:  {run.profile_path} ({profile.organism.name})")
     print(f"periods:  {len(opened)} (1 baseline, {len(opened) - 1} scenarios)")

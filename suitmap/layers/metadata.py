@@ -104,4 +104,9 @@ def layer_attrs(name: str) -> dict[str, Any]:
             "long_name": f"change (scenario minus baseline) of: {base['long_name']}",
             "cell_methods": base.get("cell_methods", ""),
         }
+    if name.startswith("model_bias_"):
+        base = LAYER_ATTRS[name[len("model_bias_"):]]
+        return {"units": base["units"], "cell_methods": base.get("cell_methods", ""),
+                "long_name": f"climate model bias (the model's historical run minus the observed "
+                             f"baseline) of: {base['long_name']}"}
     raise KeyError(name)

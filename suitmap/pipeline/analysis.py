@@ -300,13 +300,31 @@ def finish_period(ds: xr.Dataset) -> xr.Dataset:
     return ds
 
 
+def change_name(scen: Period, run: RunFile) -> str:
+    """Name of a scenario's comparison: against its reference period, else the baseline."""
+    return comparison_name(scen.name, scen.reference or run.baseline.name)
+
+
 def derive(run: RunFile, periods: dict[str, xr.Dataset]):
-    """Comparisons and ensembles from period layers (lazy or computed)."""
+    """Comparisons, model bias layers and ensembles from period layers (lazy or computed).
+
+    A model's historical run gives ``model_bias_<layer>`` against the baseline; a
+    scenario with a ``reference`` (its model's historical run) is compared with
+    it; the route is recorded on every output (:mod:`suitmap.comparison.reference`).
+    """
+    from suitmap.comparison.reference import label_route, model_bias, route_of
+
     comps = {}
     base = periods[run.baseline.name]
     for scen in run.scenarios:
-        comps[comparison_name(scen.name, run.baseline.name)] = compare(
-            base, periods[scen.name], suitable_level=run.output.suitable_level)
+        name = change_name(scen, run)
+        if scen.kind == "historical":
+            comps[name] = model_bias(base, periods[scen.name])
+            continue
+        ref = scen.reference or run.baseline.name
+        comps[name] = label_route(compare(periods[ref], periods[scen.name],
+                                          suitable_level=run.output.suitable_level),
+                                  route_of(scen), ref)
     return comps, ensemble_groups(run, periods, comps)
 
 
@@ -340,22 +358,30 @@ def ensemble_groups(run: RunFile, periods: dict[str, xr.Dataset],
     """
     from suitmap.comparison.ensemble import ensemble_stats
 
-    groups: dict[tuple[str, str], dict[str, str]] = {}
+    from suitmap.comparison.reference import ROUTE_NOTES, route_of
+
+    groups: dict[tuple[str, str], dict[str, Period]] = {}
     for scen in run.scenarios:
-        if scen.model and scen.pathway and scen.period:
-            groups.setdefault((scen.pathway, scen.period), {})[scen.model] = scen.name
+        if scen.model and scen.pathway and scen.period and scen.kind != "historical":
+            groups.setdefault((scen.pathway, scen.period), {})[scen.model] = scen
     out = {}
     for (pathway, period), members in sorted(groups.items()):
         if len(members) < 2:
             continue
-        layers = ensemble_stats({m: periods[n] for m, n in members.items()},
+        layers = ensemble_stats({m: periods[s.name] for m, s in members.items()},
                                 agreement_level=run.output.agreement_level)
-        changes = ensemble_stats(
-            {m: comps[comparison_name(n, run.baseline.name)] for m, n in members.items()},
-            agreement_level=run.output.agreement_level)
+        changes = ensemble_stats({m: comps[change_name(s, run)] for m, s in members.items()},
+                                 agreement_level=run.output.agreement_level)
+        routes = sorted({route_of(s) for s in members.values()})
+        route = routes[0] if len(routes) == 1 else "mixed: " + ", ".join(routes)
+        for v in changes.data_vars:
+            changes[v].attrs["change_reference"] = route
         ds = xr.merge([layers, changes], combine_attrs="override", compat="override")
         ds.attrs.update({"pathway": pathway, "period": period, "models": ", ".join(sorted(members)),
-                         "n_models": len(members), "baseline": run.baseline.name})
+                         "n_models": len(members), "baseline": run.baseline.name,
+                         "change_reference": route,
+                         "change_reference_note": ROUTE_NOTES.get(route, "models compared with "
+                                                                  "different references")})
         out[f"ensemble_{pathway}_{period}"] = ds
     return out
 
