@@ -39,6 +39,14 @@ def _cmd_demo(args) -> int:
 
 
 def _cmd_run(args) -> int:
+    from suitmap.pipeline.finished import finished_manifest
+
+    done = None if args.overwrite else finished_manifest(args.runfile)
+    if done is not None:
+        if not args.quiet:
+            print(f"nothing to do: the outputs in {done.parent} are up to date with {args.runfile} "
+                  "(no file written; --overwrite redoes them)")
+        return 0
     from suitmap.pipeline.analysis import run
 
     manifest = run(args.runfile, overwrite=args.overwrite, progress=_progress_wanted(args),

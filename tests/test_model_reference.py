@@ -169,3 +169,16 @@ def test_missing_years_listed(tmp_path):
     r = load_run(run)
     line = next(s for s in r.inventory if s.startswith("beta × ssp245 × mid"))
     assert "years 2053" in line and "MISSING years 2054" in line
+
+
+def test_check_lists_model_pathway_period(tmp_path, capsys):
+    from suitmap.cli import main
+
+    run, _ = make_batch(tmp_path)
+    assert main(["check", str(run)]) == 0
+    out = capsys.readouterr().out
+    for m in MODELS:
+        assert f"{m} × ssp245 × mid (2053-2054): 2 tmin + 2 tmax files, years 2053-2054" in out
+        assert f"{m} × historical × historical (2001-2002): 2 tmin + 2 tmax files" in out
+    assert "[historical] gamma_historical" in out
+    assert "usable: yes" in out

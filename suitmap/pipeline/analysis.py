@@ -412,7 +412,8 @@ def run(run: RunFile | str | Path, *, overwrite: bool = False, progress: bool = 
     folder made by another run file is refused unless ``overwrite``.  Each
     period's layers are cached under ``<output.dir>/.suitmap/`` as soon as they
     are computed; a rerun (after a crash, a kill, or a change of inputs or
-    profile) recomputes only the periods whose inputs changed.  ``workers``
+    profile) recomputes only the periods whose inputs changed; a rerun of a finished run
+    that nothing has changed since writes nothing (:func:`suitmap.pipeline.finished.finished_manifest`).  ``workers``
     starts a local dask.distributed cluster; ``scheduler_address`` uses an
     existing one; by default dask's threaded scheduler runs the graph.
 
@@ -427,7 +428,11 @@ def run(run: RunFile | str | Path, *, overwrite: bool = False, progress: bool = 
     from suitmap.pipeline.folder import OutputFolder
     from suitmap.pipeline.scheduling import scheduler
 
+    from suitmap.pipeline.finished import finished_manifest, mark_finished
+
     run = _as_run(run)
+    if not overwrite and (done := finished_manifest(run)) is not None:
+        return done
     folder = OutputFolder(run.output.dir, run.path, overwrite)
     folder.check()
     lazy = compute_run(run)
@@ -444,4 +449,6 @@ def run(run: RunFile | str | Path, *, overwrite: bool = False, progress: bool = 
                 periods[name] = got
         comps, ens = derive(run, periods)
         layers = RunLayers(run, lazy.profile, periods, comps, lazy.inputs, ens, lazy.keys)
-        return write_outputs(layers, folder=folder)
+        manifest = write_outputs(layers, folder=folder)
+        mark_finished(run)
+        return manifest

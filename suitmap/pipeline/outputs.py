@@ -204,7 +204,8 @@ def _readme_text(layers) -> str:
         lines.append(f"  {p.name}: years {p.years[0]}-{p.years[1]}, {ds.attrs.get('seasons')} season-years, "
                      f"calendar {ds.attrs.get('calendar')}")
     if layers.comparisons:
-        lines.append("comparisons (scenario minus baseline):")
+        lines.append("comparisons (scenario minus its reference, see each file's change_reference; "
+                     "model_bias_*: a model's historical run minus the observations):")
         lines.extend(f"  {c}" for c in layers.comparisons)
     if layers.ensembles:
         lines.append("ensembles across climate models (median, 10th/90th percentiles, agreement):")
