@@ -182,3 +182,22 @@ def test_check_lists_model_pathway_period(tmp_path, capsys):
         assert f"{m} × historical × historical (2001-2002): 2 tmin + 2 tmax files" in out
     assert "[historical] gamma_historical" in out
     assert "usable: yes" in out
+
+
+def test_written_outputs_carry_the_route_and_the_caution(tmp_path):
+    import rasterio
+    import xarray as xr
+
+    run, _ = make_batch(tmp_path)
+    run.write_text(run.read_text().replace('formats = ["netcdf"]', 'formats = ["geotiff", "netcdf"]'))
+    root = suitmap.run(run).parent
+    ens = root / "ensemble_ssp245_mid"
+    with rasterio.open(ens / "robust_change_degree_days.tif") as src:
+        assert src.dtypes[0] == "uint8"
+        assert src.tags()["change_reference"] == "model_historical"
+        assert "only 3 climate models" in src.tags()["small_ensemble_caution"]
+    assert not list(ens.glob("*change_change*"))
+    with xr.open_dataset(root / "alpha_ssp245_mid_vs_alpha_historical" / "changes.nc") as ds:
+        assert ds.attrs["change_reference"] == "model_historical"
+        assert ds["change_degree_days"].attrs["change_reference_period"] == "alpha_historical"
+    assert (root / "alpha_historical_vs_baseline" / "model_bias_degree_days.tif").is_file()

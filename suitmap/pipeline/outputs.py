@@ -37,6 +37,9 @@ CAUTION = (
 )
 
 
+_ROUTE_TAGS = ("change_reference", "change_reference_period", "small_ensemble_caution")
+
+
 def check_output_dir(out_dir: Path, overwrite: bool) -> None:
     """Refuse an existing output folder unless ``overwrite``; check the parent exists."""
     out_dir = Path(out_dir)
@@ -111,8 +114,9 @@ def _write_group(ds: xr.Dataset, folder: Path, group: str, kind: str, formats, m
     for name in ds.data_vars:
         da = ds[name]
         if "geotiff" in formats:
-            p = write_cog(da, folder / f"{name}.tif", layer=name,
-                          tags={"period_or_comparison": group, "suitmap_version": __version__})
+            tags = {"period_or_comparison": group, "suitmap_version": __version__}
+            tags.update({k: da.attrs[k] for k in _ROUTE_TAGS if k in da.attrs})  # route, caution
+            p = write_cog(da, folder / f"{name}.tif", layer=name, tags=tags)
             manifest.add(p, layer=name, period_or_comparison=group, format="geotiff")
         if "png" in formats:
             title = f"{organism}: {name.replace('_', ' ')}\n{kind} {group}"
@@ -120,8 +124,11 @@ def _write_group(ds: xr.Dataset, folder: Path, group: str, kind: str, formats, m
             agree_name = name.replace("ensemble_median_", "model_agreement_", 1)
             if name.startswith("ensemble_median_change_") and agree_name in ds:
                 hatch = ds[agree_name] < (agreement or 2 / 3)
+            caution = DEFAULT_CAUTION
+            if "small_ensemble_caution" in da.attrs:
+                caution += f" Only {da.attrs.get('n_models')} climate models: indicative only."
             p = plot_layer(da.rename(name), folder / f"{name}.png", title=title,
-                           caution=DEFAULT_CAUTION, hatch=hatch)
+                           caution=caution, hatch=hatch)
             manifest.add(p, layer=name, period_or_comparison=group, format="png")
     if "netcdf" in formats:
         fname = {"period": "layers.nc", "comparison": "changes.nc", "ensemble": "ensemble.nc"}[kind]
