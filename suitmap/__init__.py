@@ -10,7 +10,7 @@ The Python API does what the command line does::
 Outputs are screening-level estimates, not a basis for control decisions.
 """
 
-from suitmap._version import __version__  # noqa: E402
+from suitmap._version import __version__
 
 # The API is imported on first use (PEP 562), so ``python -m suitmap`` starts without the
 # climate stack (xarray, dask, rioxarray, numba): a rerun with nothing to do answers at once.
@@ -31,7 +31,23 @@ _API = {
     "load_run": "suitmap.config.runfile",
 }
 
-__all__ = ["__version__", *_API]
+__all__ = [
+    "__version__",
+    "check_run",
+    "compare",
+    "compute_layers",
+    "compute_run",
+    "daily_development",
+    "degree_days",
+    "development_rate",
+    "load_profile",
+    "load_run",
+    "open_climate",
+    "open_period",
+    "run",
+    "season_statistics",
+    "write_outputs",
+]
 
 
 def __getattr__(name: str):

@@ -6,10 +6,10 @@ import textwrap
 
 import numpy as np
 import pytest
-
-import suitmap
 from climate_fixtures import make_tmin_tmax, write_netcdf_daily
 from conftest import write_period, write_profile
+
+import suitmap
 from suitmap.config.runfile import load_run
 from suitmap.errors import RunFileError
 from suitmap.kernels.degree_days import degree_days
@@ -116,7 +116,7 @@ def test_ensemble_change_is_each_model_against_its_own_historical_run(tmp_path):
     assert "robust_change_degree_days" in ens and "robust_change_change_degree_days" not in ens
 
     # bias layers: the model's historical run minus the observations, per model
-    for m, (bias, cal) in MODELS.items():
+    for m in MODELS:
         b = layers.comparisons[f"{m}_historical_vs_baseline"]["model_bias_degree_days"].values
         np.testing.assert_allclose(b, exp[m]["hist"] - exp["obs"], rtol=1e-4, atol=1e-2)
     # alpha (+1 °C, same days as the observations): its bias is the effect of a +1 °C shift

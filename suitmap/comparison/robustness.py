@@ -62,7 +62,7 @@ _NONE = ROBUST_CHANGE_CLASSES.index("no_robust_signal")
 
 def robust_change_name(layer: str) -> str:
     """``robust_change_<layer>`` for ``layer`` or ``change_<layer>`` (never ``change_change_``)."""
-    return "robust_change_" + (layer[len("change_"):] if layer.startswith("change_") else layer)
+    return "robust_change_" + layer.removeprefix("change_")
 
 
 def robustness_classes(stack: xr.DataArray, agreement_level: float = DEFAULT_AGREEMENT_LEVEL,

@@ -22,10 +22,11 @@ from pathlib import Path
 
 from suitmap._version import __version__
 from suitmap.config.runfile import RunFile, load_run
-from suitmap.pipeline.folder import STATE_DIR  # folder imports xarray only when it reads the cache
+from suitmap.pipeline.folder import STATE_DIR
 from suitmap.writers.atomic import TEMP_MARK, atomic_write_text
 
 FINISHED = "finished.json"
+# pipeline.folder imports xarray only when it reads its cache: the check here stays light
 
 
 def _sig(path: str | Path) -> list:
