@@ -104,6 +104,8 @@ def test_ensemble_change_is_each_model_against_its_own_historical_run(tmp_path):
         np.testing.assert_allclose(c["change_degree_days"].values, own[m], rtol=1e-4, atol=1e-2)
         assert c.attrs["change_reference"] == "model_historical"
         assert c["change_degree_days"].attrs["change_reference"] == "model_historical"
+    assert "not bias-corrected" in layers.periods["alpha_ssp245_mid"].attrs["model_climate"]
+    assert "model_climate" not in layers.periods["baseline"].attrs
     ens = layers.ensembles["ensemble_ssp245_mid"]
     median = np.median(np.stack([own[m] for m in MODELS]), axis=0)
     np.testing.assert_allclose(ens["ensemble_median_change_degree_days"].values, median,

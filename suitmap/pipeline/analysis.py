@@ -272,6 +272,9 @@ def compute_run(run: RunFile | str | Path) -> RunLayers:
                                        f"{period.delta.historical_years[1]}, added to baseline "
                                        f"{run.baseline.years[0]}-{run.baseline.years[1]}")
             ds.attrs["years"] = f"{period.years[0]}-{period.years[1]}"
+        if period.kind == "historical" or period.reference is not None:
+            ds.attrs["model_climate"] = ("raw climate-model output, not bias-corrected: read its change "
+                                         "against the model's own historical run, not its absolute values")
         if template is None:
             template = ds  # the baseline's grid is the template of every comparison
         else:
