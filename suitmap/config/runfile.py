@@ -37,6 +37,8 @@ class Period:
     pathway: str | None = None    # emissions pathway, for ensembles
     period: str | None = None     # period label (e.g. "mid-century"), for ensembles
     delta: "DeltaChange | None" = None  # delta-change downscaling onto the baseline
+    reference: str | None = None  # period its change is measured against (None: the baseline)
+    change_against: str | None = None  # "model_historical"/"observations" when a set chose it
 
 
 @dataclass(frozen=True)
@@ -55,7 +57,7 @@ class Output:
     dir: Path
     formats: tuple[str, ...] = FORMATS
     suitable_level: float = 0.5
-    agreement_level: float = 2 / 3
+    agreement_level: float = 0.8   # IPCC AR6 Atlas simple approach (comparison.robustness)
 
 
 @dataclass(frozen=True)
@@ -73,6 +75,7 @@ class RunFile:
     diurnal: str | None = None    # overrides the profile's development.diurnal
     accept_implausible: bool = False  # let suspicious (not impossible) temperatures pass
     raw: dict[str, Any] = field(default_factory=dict, compare=False, repr=False)
+    inventory: tuple[str, ...] = ()   # scenario sets: model × pathway × period found/missing
 
     @property
     def base_dir(self) -> Path:
@@ -180,19 +183,21 @@ def _delta(raw: Any, key: str, base: Path, where: str) -> DeltaChange | None:
                        (years[0], years[1]), smoothing, window)
 
 
-def _scenario_sets(raw: Any, base: Path, where: str) -> list[Period]:
-    from suitmap.config.scenario_sets import expand
+def _scenario_sets(raw: Any, base: Path, where: str) -> tuple[list[Period], list[str]]:
+    from suitmap.config.scenario_sets import expand, inventory
+    from suitmap.config.set_reference import set_periods, set_reference
 
     if isinstance(raw, dict):
         raw = [raw]
     if not isinstance(raw, list):
         raise RunFileError(f"{where}: [[scenario_set]] must be an array of tables")
-    out = []
+    out, lines = [], []
     for i, table in enumerate(raw):
         key = f"scenario_set[{i}]"
         if not isinstance(table, dict):
             raise RunFileError(f"{where}: {key} must be a table")
-        _keys(table, ("files", "variables", "periods"), where, key)
+        _keys(table, ("files", "variables", "periods", "historical", "historical_pathway",
+                      "change_against", "downscale"), where, key)
         files = table.get("files")
         if not isinstance(files, str):
             raise RunFileError(f"{where}: {key}.files must be a file-name template string")
@@ -210,13 +215,12 @@ def _scenario_sets(raw: Any, base: Path, where: str) -> list[Period]:
                     isinstance(y, int) and not isinstance(y, bool) for y in years)) or years[0] > years[1]:
                 raise RunFileError(f"{where}: {key}.periods.{name} must be [first, last] years")
             spans[name] = (years[0], years[1])
-        for f in expand(_resolve(base, files), variables, spans, f"{where}: {key}"):
-            out.append(Period(
-                name=f"{f.model}_{f.pathway}_{f.period}", years=spans[f.period],
-                tmin=ClimateSource(f.tmin, variables["tmin"]),
-                tmax=ClimateSource(f.tmax, variables["tmax"]),
-                kind="scenario", model=f.model, pathway=f.pathway, period=f.period))
-    return out
+        ref = set_reference(table, spans, f"{where}: {key}", _NAME)
+        found = expand(_resolve(base, files), variables, spans, f"{where}: {key}",
+                       ref.historical, ref.historical_pathway)
+        lines += inventory(found, spans, ref.historical)
+        out += set_periods(found, spans, variables, ref, ClimateSource, Period, DeltaChange)
+    return out, lines
 
 
 def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
@@ -246,9 +250,10 @@ def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
         scen_raw = [scen_raw]
     if not isinstance(scen_raw, list):
         raise RunFileError(f"{where}: [[scenario]] must be an array of tables")
+    set_scenarios, inventory = _scenario_sets(raw.get("scenario_set", []), base, where)
     scenarios = tuple(
         _period(s, f"scenario[{i}]", base, where, "scenario") for i, s in enumerate(scen_raw)
-    ) + tuple(_scenario_sets(raw.get("scenario_set", []), base, where))
+    ) + tuple(set_scenarios)
     names = [baseline.name] + [s.name for s in scenarios]
     dupes = sorted({n for n in names if names.count(n) > 1})
     if dupes:
@@ -275,9 +280,10 @@ def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
     level = out.get("suitable_level", 0.5)
     if isinstance(level, bool) or not isinstance(level, (int, float)) or not 0 < level <= 1:
         raise RunFileError(f"{where}: output.suitable_level must be a number in (0, 1]")
-    agree = out.get("agreement_level", 2 / 3)
-    if isinstance(agree, bool) or not isinstance(agree, (int, float)) or not 0 < agree <= 1:
-        raise RunFileError(f"{where}: output.agreement_level must be a number in (0, 1]")
+    agree = out.get("agreement_level", 0.8)
+    if isinstance(agree, bool) or not isinstance(agree, (int, float)) or not 0.5 < agree <= 1:
+        raise RunFileError(f"{where}: output.agreement_level must be a number above 0.5 and at "
+                           "most 1 (default 0.8, the IPCC AR6 Atlas level)")
     output = Output(Path(_resolve(base, out_dir)), tuple(dict.fromkeys(formats)), float(level),
                     float(agree))
 
@@ -315,7 +321,8 @@ def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
     return RunFile(path=path, profile_path=Path(_resolve(base, prof["path"])), baseline=baseline,
                    scenarios=scenarios, output=output, chunk_cells=chunk, monthly_route=route,
                    daily_sd=None if sd is None else float(sd), fast_tables=fast,
-                   threads=threads, diurnal=diurnal, accept_implausible=accept, raw=raw)
+                   threads=threads, diurnal=diurnal, accept_implausible=accept, raw=raw,
+                   inventory=tuple(inventory))
 
 
 def load_run(path: str | Path) -> RunFile:

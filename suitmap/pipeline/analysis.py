@@ -282,6 +282,9 @@ def compute_run(run: RunFile | str | Path) -> RunLayers:
                                        f"{period.delta.historical_years[1]}, added to baseline "
                                        f"{run.baseline.years[0]}-{run.baseline.years[1]}")
             ds.attrs["years"] = f"{period.years[0]}-{period.years[1]}"
+        if period.kind == "historical" or period.reference is not None:
+            ds.attrs["model_climate"] = ("raw climate-model output, not bias-corrected: read its change "
+                                         "against the model's own historical run, not its absolute values")
         if template is None:
             template = ds  # the baseline's grid is the template of every comparison
         else:
@@ -310,13 +313,31 @@ def finish_period(ds: xr.Dataset) -> xr.Dataset:
     return ds
 
 
+def change_name(scen: Period, run: RunFile) -> str:
+    """Name of a scenario's comparison: against its reference period, else the baseline."""
+    return comparison_name(scen.name, scen.reference or run.baseline.name)
+
+
 def derive(run: RunFile, periods: dict[str, xr.Dataset]):
-    """Comparisons and ensembles from period layers (lazy or computed)."""
+    """Comparisons, model bias layers and ensembles from period layers (lazy or computed).
+
+    A model's historical run gives ``model_bias_<layer>`` against the baseline; a
+    scenario with a ``reference`` (its model's historical run) is compared with
+    it; the route is recorded on every output (:mod:`suitmap.comparison.reference`).
+    """
+    from suitmap.comparison.reference import label_route, model_bias, route_of
+
     comps = {}
     base = periods[run.baseline.name]
     for scen in run.scenarios:
-        comps[comparison_name(scen.name, run.baseline.name)] = compare(
-            base, periods[scen.name], suitable_level=run.output.suitable_level)
+        name = change_name(scen, run)
+        if scen.kind == "historical":
+            comps[name] = model_bias(base, periods[scen.name])
+            continue
+        ref = scen.reference or run.baseline.name
+        comps[name] = label_route(compare(periods[ref], periods[scen.name],
+                                          suitable_level=run.output.suitable_level),
+                                  route_of(scen), ref)
     return comps, ensemble_groups(run, periods, comps)
 
 
@@ -350,22 +371,30 @@ def ensemble_groups(run: RunFile, periods: dict[str, xr.Dataset],
     """
     from suitmap.comparison.ensemble import ensemble_stats
 
-    groups: dict[tuple[str, str], dict[str, str]] = {}
+    from suitmap.comparison.reference import ROUTE_NOTES, route_of
+
+    groups: dict[tuple[str, str], dict[str, Period]] = {}
     for scen in run.scenarios:
-        if scen.model and scen.pathway and scen.period:
-            groups.setdefault((scen.pathway, scen.period), {})[scen.model] = scen.name
+        if scen.model and scen.pathway and scen.period and scen.kind != "historical":
+            groups.setdefault((scen.pathway, scen.period), {})[scen.model] = scen
     out = {}
     for (pathway, period), members in sorted(groups.items()):
         if len(members) < 2:
             continue
-        layers = ensemble_stats({m: periods[n] for m, n in members.items()},
+        layers = ensemble_stats({m: periods[s.name] for m, s in members.items()},
                                 agreement_level=run.output.agreement_level)
-        changes = ensemble_stats(
-            {m: comps[comparison_name(n, run.baseline.name)] for m, n in members.items()},
-            agreement_level=run.output.agreement_level)
+        changes = ensemble_stats({m: comps[change_name(s, run)] for m, s in members.items()},
+                                 agreement_level=run.output.agreement_level)
+        routes = sorted({route_of(s) for s in members.values()})
+        route = routes[0] if len(routes) == 1 else "mixed: " + ", ".join(routes)
+        for v in changes.data_vars:
+            changes[v].attrs["change_reference"] = route
         ds = xr.merge([layers, changes], combine_attrs="override", compat="override")
         ds.attrs.update({"pathway": pathway, "period": period, "models": ", ".join(sorted(members)),
-                         "n_models": len(members), "baseline": run.baseline.name})
+                         "n_models": len(members), "baseline": run.baseline.name,
+                         "change_reference": route,
+                         "change_reference_note": ROUTE_NOTES.get(route, "models compared with "
+                                                                  "different references")})
         out[ensemble_name(pathway, period)] = ds
     return out
 
@@ -396,7 +425,8 @@ def run(run: RunFile | str | Path, *, overwrite: bool = False, progress: bool = 
     folder made by another run file is refused unless ``overwrite``.  Each
     period's layers are cached under ``<output.dir>/.suitmap/`` as soon as they
     are computed; a rerun (after a crash, a kill, or a change of inputs or
-    profile) recomputes only the periods whose inputs changed.  ``workers``
+    profile) recomputes only the periods whose inputs changed; a rerun of a finished run
+    that nothing has changed since writes nothing (:func:`suitmap.pipeline.finished.finished_manifest`).  ``workers``
     starts a local dask.distributed cluster; ``scheduler_address`` uses an
     existing one; by default dask's threaded scheduler runs the graph.
 
@@ -411,7 +441,11 @@ def run(run: RunFile | str | Path, *, overwrite: bool = False, progress: bool = 
     from suitmap.pipeline.folder import OutputFolder
     from suitmap.pipeline.scheduling import scheduler
 
+    from suitmap.pipeline.finished import finished_manifest, mark_finished
+
     run = _as_run(run)
+    if not overwrite and (done := finished_manifest(run)) is not None:
+        return done
     check_output_names(run)
     folder = OutputFolder(run.output.dir, run.path, overwrite)
     folder.check()
@@ -431,4 +465,6 @@ def run(run: RunFile | str | Path, *, overwrite: bool = False, progress: bool = 
                 periods[name] = got
         comps, ens = derive(run, periods)
         layers = RunLayers(run, lazy.profile, periods, comps, lazy.inputs, ens, lazy.keys)
-        return write_outputs(layers, folder=folder)
+        manifest = write_outputs(layers, folder=folder)
+        mark_finished(run)
+        return manifest
