@@ -68,7 +68,7 @@ def test_geotiffs_are_cloud_optimised_and_georeferenced(demo):
             assert src.profile["tiled"] or src.tags(ns="IMAGE_STRUCTURE").get("LAYOUT") == "COG"
             assert src.transform.e < 0  # north-up
             data = src.read(1)
-            if layer in ("limiting_factor", "change_class"):
+            if layer in ("limiting_factor", "change_class") or layer.endswith("_status"):
                 assert src.dtypes[0] == "uint8" and src.nodata == 255
                 assert src.colormap(1)[0][:3] != (0, 0, 0) or src.colormap(1)[1]
                 assert (data[lake] == 255).all() and (data[~lake] != 255).all()
