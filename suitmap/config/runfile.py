@@ -37,6 +37,7 @@ class Period:
     pathway: str | None = None    # emissions pathway, for ensembles
     period: str | None = None     # period label (e.g. "mid-century"), for ensembles
     delta: "DeltaChange | None" = None  # delta-change downscaling onto the baseline
+    pr: ClimateSource | None = None     # precipitation (daily or monthly), for [moisture]
 
 
 @dataclass(frozen=True)
@@ -117,8 +118,11 @@ def _period(table: Any, name_key: str, base: Path, where: str, kind: str,
             default_name: str | None = None) -> Period:
     if not isinstance(table, dict):
         raise RunFileError(f"{where}: [{name_key}] must be a table")
-    _keys(table, ("name", "years", "tmin", "tmax", "model", "pathway", "period", "downscale"),
+    _keys(table, ("name", "years", "tmin", "tmax", "pr", "model", "pathway", "period", "downscale"),
           where, name_key)
+    if "pr" in table and "downscale" in table:
+        raise RunFileError(f"{where}: {name_key}.pr cannot be combined with downscale yet; "
+                           "give the scenario's own tmin/tmax/pr files or leave pr out")
     for key in ("model", "pathway", "period"):
         if key in table and not (isinstance(table[key], str) and _NAME.match(table[key])):
             raise RunFileError(f"{where}: {name_key}.{key} must be a short name, got {table[key]!r}")
@@ -147,6 +151,7 @@ def _period(table: Any, name_key: str, base: Path, where: str, kind: str,
         pathway=table.get("pathway"),
         period=table.get("period"),
         delta=_delta(table.get("downscale"), f"{name_key}.downscale", base, where),
+        pr=_source(table["pr"], f"{name_key}.pr", base, where) if "pr" in table else None,
     )
 
 
@@ -246,6 +251,10 @@ def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
     scenarios = tuple(
         _period(s, f"scenario[{i}]", base, where, "scenario") for i, s in enumerate(scen_raw)
     ) + tuple(_scenario_sets(raw.get("scenario_set", []), base, where))
+    with_pr = [p.name for p in (baseline, *scenarios) if p.pr is not None]
+    if with_pr and len(with_pr) != 1 + len(scenarios):
+        raise RunFileError(f"{where}: pr (precipitation) is given for {', '.join(with_pr)} but not "
+                           "for every period; give pr files for all periods or for none")
     names = [baseline.name] + [s.name for s in scenarios]
     dupes = sorted({n for n in names if names.count(n) > 1})
     if dupes:

@@ -335,16 +335,23 @@ def period_layers(stats: xr.Dataset, profile: Profile) -> xr.Dataset:
 
 
 def compute_layers(tmin: xr.DataArray, tmax: xr.DataArray, profile: Profile,
-                   years: tuple[int, int], *, label: str = "", fast: bool = True) -> xr.Dataset:
+                   years: tuple[int, int], *, label: str = "", fast: bool = True,
+                   pr: xr.DataArray | None = None) -> xr.Dataset:
     """Lazy output layers (dims ``y, x``) of one period; CRS copied from the input.
 
     ``fast``: rate summation uses precomputed tables (within 1e-3 of the
     exact integral; see :mod:`suitmap.kernels.tables`) and sine degree-days
     the float32 closed form (within about 1e-5 °C·day a day;
-    :mod:`suitmap.kernels.degree_days32`).
+    :mod:`suitmap.kernels.degree_days32`).  ``pr``: precipitation (mm/day) for the
+    moisture layers (:mod:`suitmap.layers.moisture`).
     """
     stats = season_statistics(tmin, tmax, profile, years, label=label, fast=fast)
     ds = period_layers(stats, profile)
+    if pr is not None:
+        from suitmap.layers.moisture import apply_moisture
+
+        ds = apply_moisture(ds, pr, tmin, tmax, cell_latitudes(tmin.isel(time=0)), years,
+                            profile.biology.moisture, label=label)
     crs = tmin.rio.crs
     for c in ("x", "y"):
         ds[c].attrs = dict(tmin[c].attrs)

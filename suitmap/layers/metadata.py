@@ -9,8 +9,12 @@ from __future__ import annotations
 
 from typing import Any
 
+from suitmap.layers.metadata_biology import BIOLOGY_LAYER_ATTRS, stage_layer_attrs
+
 #: Class layers: names in code order (code = index); 255 marks missing cells.
 LIMITING_FACTOR_CLASSES = ("none", "too_cool", "too_hot", "cold_kill", "heat_kill")
+#: Classes appended to LIMITING_FACTOR_CLASSES when a profile has [moisture] (codes 5, 6).
+MOISTURE_CLASSES = ("too_dry", "too_wet")
 CHANGE_CLASSES = ("stays_unsuitable", "becomes_suitable", "stays_suitable", "becomes_unsuitable")
 CLASS_LAYERS = {"limiting_factor": LIMITING_FACTOR_CLASSES, "change_class": CHANGE_CLASSES}
 MISSING_CLASS = 255
@@ -75,6 +79,7 @@ LAYER_ATTRS: dict[str, dict[str, Any]] = {
         "flag_values": list(range(len(LIMITING_FACTOR_CLASSES))),
         "flag_meanings": " ".join(LIMITING_FACTOR_CLASSES),
     },
+    **BIOLOGY_LAYER_ATTRS,
     "change_class": {
         "units": "1",
         "long_name": "change of suitable status between baseline and scenario",
@@ -88,6 +93,8 @@ NUMERIC_LAYERS = (
     "degree_days", "generations", "complete_generations", "first_generation_day",
     "years_with_generation", "cold_kill_days", "heat_kill_days",
     "development_score", "survival_score", "suitability",
+    "annual_precipitation", "dry_months", "aridity_index", "moisture_score",
+    "generations_before_diapause",
 )
 
 
@@ -95,6 +102,8 @@ def layer_attrs(name: str) -> dict[str, Any]:
     """Attributes of layer ``name``; ``change_<layer>`` gets the layer's units."""
     if name in LAYER_ATTRS:
         return dict(LAYER_ATTRS[name])
+    if name.startswith(("first_", "years_with_")) and not name.startswith("first_generation"):
+        return stage_layer_attrs(name)
     if name.startswith("change_"):
         base = LAYER_ATTRS[name[len("change_"):]]
         return {

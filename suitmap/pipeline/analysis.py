@@ -47,6 +47,7 @@ class PeriodClimate:
     qa: "climate.ClimateQA | None" = None
     files: dict[str, list[str]] = field(default_factory=dict)
     notes: list[str] = field(default_factory=list)
+    pr: "xr.DataArray | None" = None   # precipitation, mm/day (daily or monthly)
 
 
 def _as_run(run: RunFile | str | Path) -> RunFile:
@@ -141,7 +142,12 @@ def open_period(period: Period, profile: Profile, *, chunk_cells: int | None = N
     tmax = tmax.chunk(dict(zip(tmax.dims, tmin.chunks)))  # the same blocks as tmin
     report = climate.qa_summary(tmin, tmax, period.name) if qa else None
     tmin, tmax, swapped = _swap_lazily(tmin, tmax)
-    return PeriodClimate(period, tmin, tmax, swapped, report, files)
+    pc = PeriodClimate(period, tmin, tmax, swapped, report, files)
+    if period.pr is not None:
+        from suitmap.pipeline.precipitation import open_period_precipitation
+
+        open_period_precipitation(pc, chunk_side(366, chunk_cells))
+    return pc
 
 
 def _swap_lazily(tmin: xr.DataArray, tmax: xr.DataArray):
@@ -254,6 +260,9 @@ def compute_run(run: RunFile | str | Path) -> RunLayers:
         if pc.tmin.attrs.get("frequency") == "monthly":  # the quick "normal" route
             from suitmap.layers.monthly_normal import normal_route_layers
 
+            if pc.pr is not None:
+                raise InputError("precipitation (pr) needs daily temperatures or monthly_route = "
+                                 "\"interpolate\"; the \"normal\" route has no moisture layers yet")
             if run.daily_sd is None:
                 raise InputError("monthly_route = \"normal\" needs [compute] daily_sd (the standard "
                                  "deviation of daily mean temperature within a month, °C)")
@@ -261,7 +270,7 @@ def compute_run(run: RunFile | str | Path) -> RunLayers:
             ds.attrs["period"] = period.name
         else:
             ds = compute_layers(pc.tmin, pc.tmax, profile, years, label=period.name,
-                                fast=run.fast_tables)
+                                fast=run.fast_tables, pr=pc.pr)
             if "monthly_route" in pc.tmin.attrs:
                 ds.attrs["monthly_route"] = pc.tmin.attrs["monthly_route"]
         if period.delta is not None:
