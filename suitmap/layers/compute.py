@@ -343,10 +343,16 @@ def compute_layers(tmin: xr.DataArray, tmax: xr.DataArray, profile: Profile,
     exact integral; see :mod:`suitmap.kernels.tables`) and sine degree-days
     the float32 closed form (within about 1e-5 °C·day a day;
     :mod:`suitmap.kernels.degree_days32`).  ``pr``: precipitation (mm/day) for the
-    moisture layers (:mod:`suitmap.layers.moisture`).
+    moisture layers (:mod:`suitmap.layers.moisture`); [[stage]] tables add the
+    life-stage layers (:mod:`suitmap.layers.stages`).
     """
     stats = season_statistics(tmin, tmax, profile, years, label=label, fast=fast)
     ds = period_layers(stats, profile)
+    if profile.biology.stages:
+        from suitmap.layers.stages import apply_stages
+
+        ds = apply_stages(ds, tmin, tmax, profile, years, lat=cell_latitudes(tmin.isel(time=0)),
+                          windows=season_windows(profile), label=label)
     if pr is not None:
         from suitmap.layers.moisture import apply_moisture
 

@@ -140,8 +140,8 @@ def apply_moisture(ds: xr.Dataset, pr: xr.DataArray, tmin: xr.DataArray, tmax: x
         new["moisture_score"] = score
         suit = ds["suitability"].astype(np.float64) * score
         ds["suitability"] = suit
-        # the scores are re-issued: a layer that is both an output and an input of another
-        # output made dask 2026.8's graph optimisation drop its key ("Missing dependency")
+        # the scores are re-issued: with dask 2026.8 an output of a dataset that also feeds
+        # another of its outputs loses its key when the dataset is computed ("Missing dependency")
         dev = ds["development_score"].astype(np.float64)
         surv = ds["survival_score"].astype(np.float64)
         ds["development_score"] = dev.astype(np.float32, keep_attrs=True)
