@@ -183,7 +183,10 @@ def test_without_precipitation_nothing_changes(tmp_path):
                                           "tmin": f"c/{b[0]}", "tmax": f"c/{b[1]}"}])
     plain = suitmap.compute_run(run).compute().periods["baseline"]
     prof.write_text(prof.read_text() + MOIST)         # [moisture] alone, no pr: no moisture layers
-    again = suitmap.compute_run(run).compute().periods["baseline"]
+    from suitmap.errors import SuitmapWarning
+
+    with pytest.warns(SuitmapWarning, match=r"\[moisture\] but no precipitation"):
+        again = suitmap.compute_run(run).compute().periods["baseline"]
     assert "moisture_score" not in again and "annual_precipitation" not in again
     assert again["limiting_factor"].attrs["flag_meanings"] == plain["limiting_factor"].attrs["flag_meanings"]
     np.testing.assert_array_equal(again["suitability"].values, plain["suitability"].values)
@@ -216,3 +219,33 @@ def test_pr_for_some_periods_only_is_refused(tmp_path):
            "scenario": [{"name": "s", "years": [2051, 2052], "tmin": "a.nc", "tmax": "b.nc"}]}
     with pytest.raises(RunFileError, match="pr .*not for every period"):
         runfile_from_dict(raw, tmp_path / "run.toml")
+
+
+def test_two_periods_written_with_change_layers(tmp_path):
+    # baseline 2 mm/day, scenario 3 mm/day everywhere: change_annual_precipitation = +365 mm;
+    # the limiting_factor GeoTIFF carries the moisture classes
+    import rasterio
+
+    tmin, tmax = make_tmin_tmax(730, 3, 4, mean=20.0, seed=2)
+    prof = write_profile(tmp_path)
+    prof.write_text(prof.read_text() + "\n[moisture]\nmin_annual_precipitation = 1000.0\n")
+    b = write_period(tmp_path / "c", "b", tmin, tmax, start="2001-01-01")
+    s = write_period(tmp_path / "c", "s", tmin, tmax, start="2053-01-01")
+    for name, rate, start in (("b_pr.nc", 2.0, "2001-01-01"), ("s_pr.nc", 3.0, "2053-01-01")):
+        write_netcdf_daily(tmp_path / "c" / name, np.full((730, 3, 4), rate), var="pr",
+                           units="mm/day", standard_name=False, crs="EPSG:4326", start=start)
+    run = write_runfile(tmp_path, prof, [
+        {"name": "baseline", "years": (2001, 2002), "tmin": f"c/{b[0]}", "tmax": f"c/{b[1]}"},
+        {"name": "wet", "years": (2053, 2054), "tmin": f"c/{s[0]}", "tmax": f"c/{s[1]}"}],
+        formats=("geotiff", "netcdf"))
+    text = run.read_text()
+    text = text.replace('tmax = "c/b_tmax.nc"', 'tmax = "c/b_tmax.nc"\npr = "c/b_pr.nc"')
+    run.write_text(text.replace('tmax = "c/s_tmax.nc"', 'tmax = "c/s_tmax.nc"\npr = "c/s_pr.nc"'))
+    suitmap.run(run)
+    out = tmp_path / "results"
+    with rasterio.open(next(out.rglob("wet_vs_baseline/change_annual_precipitation.tif"))) as src:
+        np.testing.assert_allclose(src.read(1), 365.0, rtol=1e-5)
+    with rasterio.open(out / "baseline" / "limiting_factor.tif") as src:
+        codes = src.read(1)
+        meanings = src.tags(1)["flag_meanings"].split()
+    assert {meanings[c] for c in codes.ravel()} == {"too_dry"}     # 730 mm < 1000 mm

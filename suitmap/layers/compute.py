@@ -358,6 +358,13 @@ def compute_layers(tmin: xr.DataArray, tmax: xr.DataArray, profile: Profile,
 
         ds = apply_moisture(ds, pr, tmin, tmax, cell_latitudes(tmin.isel(time=0)), years,
                             profile.biology.moisture, label=label)
+    elif profile.biology.moisture is not None:
+        import warnings
+
+        from suitmap.errors import SuitmapWarning
+
+        warnings.warn(f"{label or 'period'}: the profile has [moisture] but no precipitation (pr) "
+                      "is given; suitability is not limited by moisture", SuitmapWarning, stacklevel=2)
     crs = tmin.rio.crs
     for c in ("x", "y"):
         ds[c].attrs = dict(tmin[c].attrs)

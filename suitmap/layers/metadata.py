@@ -93,9 +93,10 @@ NUMERIC_LAYERS = (
     "degree_days", "generations", "complete_generations", "first_generation_day",
     "years_with_generation", "cold_kill_days", "heat_kill_days",
     "development_score", "survival_score", "suitability",
-    "annual_precipitation", "dry_months", "aridity_index", "moisture_score",
-    "generations_before_diapause",
 )
+#: Numeric layers present only with precipitation or [diapause]; compared like the above.
+OPTIONAL_NUMERIC_LAYERS = ("annual_precipitation", "dry_months", "aridity_index",
+                           "moisture_score", "generations_before_diapause")
 
 
 def layer_attrs(name: str) -> dict[str, Any]:

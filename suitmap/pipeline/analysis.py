@@ -260,9 +260,10 @@ def compute_run(run: RunFile | str | Path) -> RunLayers:
         if pc.tmin.attrs.get("frequency") == "monthly":  # the quick "normal" route
             from suitmap.layers.monthly_normal import normal_route_layers
 
-            if pc.pr is not None:
-                raise InputError("precipitation (pr) needs daily temperatures or monthly_route = "
-                                 "\"interpolate\"; the \"normal\" route has no moisture layers yet")
+            if pc.pr is not None or profile.biology.stages:
+                raise InputError("precipitation (pr) and [[stage]] tables need daily temperatures "
+                                 "or monthly_route = \"interpolate\"; the \"normal\" route has "
+                                 "no moisture or stage layers yet")
             if run.daily_sd is None:
                 raise InputError("monthly_route = \"normal\" needs [compute] daily_sd (the standard "
                                  "deviation of daily mean temperature within a month, °C)")
