@@ -210,3 +210,23 @@ def test_photoperiod_cap_falls_on_the_right_generation(tmp_path, lat0, season_st
         np.testing.assert_array_equal(ds["generations_before_diapause"].values[row], k)
     assert (ds["generations"].values < 18).all()       # 365 / 20 = 18.25 without the cap
     assert "generations_before_diapause" in ds and "diapause" in ds.attrs
+
+
+def test_360_day_calendar_keeps_month_and_day(tmp_path):
+    # 360_day: 20 °C every day, egg done on 360_day day 5, larva (from 15 °C) day 25, pupa
+    # day 30, all in January.  As for first_generation_day, each day keeps the place of its
+    # centre within the month: by hand, day d of a 30-day January is (d - 0.5) / 30 × 31 + 0.5
+    # in the 31-day January of a 365-day season.
+    from climate_fixtures import write_netcdf_daily
+
+    t = np.full((720, 2, 2), 20.0)
+    prof = write_profile(tmp_path, lower=10.0, upper=30.0, ddg=200.0)
+    prof.write_text(prof.read_text() + STAGES)
+    for v in ("tmin", "tmax"):
+        write_netcdf_daily(tmp_path / f"{v}.nc", t, var=v, role=v, calendar="360_day",
+                           crs="EPSG:4326")
+    run = write_runfile(tmp_path, prof, [{"name": "baseline", "years": (2001, 2002),
+                                          "tmin": "tmin.nc", "tmax": "tmax.nc"}])
+    ds = suitmap.compute_run(run).compute().periods["baseline"]
+    for name, d in (("first_egg_day", 5), ("first_larva_day", 25), ("first_pupa_day", 30)):
+        np.testing.assert_allclose(ds[name].values, (d - 0.5) / 30 * 31 + 0.5, rtol=1e-6)

@@ -27,7 +27,8 @@ from suitmap.kernels.degree_days import degree_days_block
 from suitmap.kernels.diurnal import daylength
 from suitmap.kernels.stages import stage_walk
 from suitmap.layers.metadata import LIMITING_FACTOR_CLASSES, MISSING_CLASS, layer_attrs
-from suitmap.layers.seasons import complete_seasons, season_index, season_labels, time_fields
+from suitmap.layers.seasons import (complete_seasons, day360_to_365, season_index, season_labels,
+                                    time_fields)
 
 
 def _block(tmin, tmax, lat, *, slices_north, slices_south, starts_north, starts_south, doy,
@@ -129,7 +130,17 @@ def stage_statistics(tmin, tmax, profile, years, lat, windows, label=""):
     stats = xr.concat(per, dim="season_year").assign_coords(
         season_year=np.array(season_years, dtype=np.int64),
         stat=[*(f"first_{n}_day" for n in names), "generations", "generations_before_diapause"])
-    return stats.to_dataset(dim="stat").transpose("season_year", "y", "x")
+    ds = stats.to_dataset(dim="stat").transpose("season_year", "y", "x")
+    if calendar == "360_day":   # days of season comparable with 365-day models, as first_generation_day
+        for n in names:
+            name = f"first_{n}_day"
+            north = xr.apply_ufunc(day360_to_365, ds[name], kwargs={"window": north_w},
+                                   dask="parallelized", output_dtypes=[float])
+            south_m = xr.apply_ufunc(day360_to_365, ds[name], kwargs={"window": south_w},
+                                     dask="parallelized", output_dtypes=[float])
+            south_da = xr.DataArray(south, dims=("y", "x"), coords={"y": ds["y"], "x": ds["x"]})
+            ds[name] = xr.where(south_da, south_m, north).transpose("season_year", "y", "x")
+    return ds
 
 
 def apply_stages(ds: xr.Dataset, tmin, tmax, profile, years, *, lat, windows,
