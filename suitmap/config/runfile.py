@@ -38,6 +38,8 @@ class Period:
     period: str | None = None     # period label (e.g. "mid-century"), for ensembles
     delta: "DeltaChange | None" = None  # delta-change downscaling onto the baseline
     pr: ClimateSource | None = None     # precipitation (daily or monthly), for [moisture]
+    tmin_offset: tuple[float, ...] | None = None   # what-if: °C added, 1 value or 12 monthly
+    tmax_offset: tuple[float, ...] | None = None
 
 
 @dataclass(frozen=True)
@@ -118,8 +120,8 @@ def _period(table: Any, name_key: str, base: Path, where: str, kind: str,
             default_name: str | None = None) -> Period:
     if not isinstance(table, dict):
         raise RunFileError(f"{where}: [{name_key}] must be a table")
-    _keys(table, ("name", "years", "tmin", "tmax", "pr", "model", "pathway", "period", "downscale"),
-          where, name_key)
+    _keys(table, ("name", "years", "tmin", "tmax", "pr", "model", "pathway", "period", "downscale",
+                  "tmin_offset", "tmax_offset"), where, name_key)
     if "pr" in table and "downscale" in table:
         raise RunFileError(f"{where}: {name_key}.pr cannot be combined with downscale yet; "
                            "give the scenario's own tmin/tmax/pr files or leave pr out")
@@ -152,7 +154,22 @@ def _period(table: Any, name_key: str, base: Path, where: str, kind: str,
         period=table.get("period"),
         delta=_delta(table.get("downscale"), f"{name_key}.downscale", base, where),
         pr=_source(table["pr"], f"{name_key}.pr", base, where) if "pr" in table else None,
+        tmin_offset=_offset(table.get("tmin_offset"), f"{name_key}.tmin_offset", where),
+        tmax_offset=_offset(table.get("tmax_offset"), f"{name_key}.tmax_offset", where),
     )
+
+
+def _offset(value: Any, key: str, where: str) -> tuple[float, ...] | None:
+    """A what-if temperature change: one number (°C) or twelve, January to December."""
+    if value is None:
+        return None
+    values = value if isinstance(value, list) else [value]
+    if (len(values) not in (1, 12) or not all(
+            isinstance(v, (int, float)) and not isinstance(v, bool) for v in values)):
+        raise RunFileError(f"{where}: {key} must be a number of °C or a list of 12 monthly values")
+    if any(abs(v) > 20 for v in values):
+        raise RunFileError(f"{where}: {key} beyond ±20 °C is not a plausible what-if change")
+    return tuple(float(v) for v in values)
 
 
 def _delta(raw: Any, key: str, base: Path, where: str) -> DeltaChange | None:

@@ -24,6 +24,7 @@ from suitmap.config.profile import Profile, load_profile
 from suitmap.pipeline.folder import period_key
 from suitmap.config.runfile import Period, RunFile, load_run
 from suitmap.pipeline.scheduling import threads
+from suitmap.pipeline.whatif import apply_offsets, describe
 
 #: Target size (bytes) of one spatial chunk of one daily variable in float32.
 CHUNK_BYTES = 32 * 2**20
@@ -257,6 +258,9 @@ def compute_run(run: RunFile | str | Path) -> RunLayers:
             years = period.years
         if base_clim is None:
             base_clim = pc
+        if describe(period):   # what-if offsets; delta scenarios keep the unmodified baseline days
+            pc = replace(pc, notes=list(pc.notes))
+            apply_offsets(pc)
         if pc.tmin.attrs.get("frequency") == "monthly":  # the quick "normal" route
             from suitmap.layers.monthly_normal import normal_route_layers
 
@@ -286,6 +290,8 @@ def compute_run(run: RunFile | str | Path) -> RunLayers:
             template = ds  # the baseline's grid is the template of every comparison
         else:
             ds = snap_layers(ds, template)
+        if describe(period):
+            ds.attrs["temperature_offsets"] = describe(period)
         ds["tmin_tmax_swapped_cell_days"] = pc.swapped
         periods[period.name] = ds
         inputs[period.name] = pc.files
