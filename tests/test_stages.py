@@ -13,7 +13,7 @@ import suitmap
 from conftest import write_period, write_profile, write_runfile
 from suitmap.config.profile import profile_from_dict
 from suitmap.errors import ProfileError
-from suitmap.kernels.stages import stage_walk
+from suitmap.kernels.stages import rule_start, stage_walk
 
 
 def const(rate, n=100, cells=1):
@@ -230,3 +230,36 @@ def test_360_day_calendar_keeps_month_and_day(tmp_path):
     ds = suitmap.compute_run(run).compute().periods["baseline"]
     for name, d in (("first_egg_day", 5), ("first_larva_day", 25), ("first_pupa_day", 30)):
         np.testing.assert_allclose(ds[name].values, (d - 0.5) / 30 * 31 + 0.5, rtol=1e-6)
+
+
+def test_biofix_rule_by_hand():
+    # first index >= after that begins `days` days with Tmax >= 15 (by hand from the rows)
+    t = np.array([[20, 20, 5, 20, 20, 20, 20], [5] * 7, [20] * 7], float)
+    assert rule_start(t, 0, 15.0, 3).tolist() == [3, 7, 0]      # 7 = never
+    assert rule_start(t, 4, 15.0, 3).tolist() == [4, 7, 4]
+    first, gens, _ = stage_walk(np.full((1, 2, 7), 10.0), np.array([20.0]),
+                                start=np.array([5, 7]))
+    assert first[:, 0].tolist()[0] == 7.0 and np.isnan(first[1, 0]) and gens[1] == 0.0
+
+
+def test_biofix_rule_in_a_run(tmp_path):
+    # 10 °C (no development above 10 °C) with a 2-day warm spell on days 20-21 and warmth from
+    # day 40 on, in the first row; the second row stays at 10 °C.  Rule: from 01-10, 3 days with
+    # Tmax >= 15 -> biofix day 40; egg (50 °C·day at 10 a day) done on day 44.  The spell is too
+    # short to start the count (from the season start the egg would be done on day 42).
+    t = np.full((730, 2, 2), 10.0)
+    for y0 in (0, 365):
+        t[y0 + 19:y0 + 21, 0] = 20.0
+        t[y0 + 39:y0 + 365, 0] = 20.0
+    rule = '[season]\nstart = "01-01"\nend = "12-31"\n'
+    rule += 'biofix = { after = "01-10", tmax_at_least = 15.0, days = 3 }\n'
+    prof = write_profile(tmp_path, lower=10.0, upper=30.0, ddg=200.0, season=rule)
+    prof.write_text(prof.read_text() + '\n[[stage]]\nname = "egg"\ndegree_days = 50.0\n')
+    b = write_period(tmp_path / "c", "b", t, t.copy())
+    run = write_runfile(tmp_path, prof, [{"name": "baseline", "years": (2001, 2002),
+                                          "tmin": f"c/{b[0]}", "tmax": f"c/{b[1]}"}])
+    ds = suitmap.compute_run(run).compute().periods["baseline"]
+    assert (ds["first_egg_day"].values[0] == 44).all()
+    assert np.isnan(ds["first_egg_day"].values[1]).all()
+    assert (ds["years_with_egg"].values[1] == 0).all()
+    assert "Tmax >= 15" in ds.attrs["generations_from"]

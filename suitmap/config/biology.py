@@ -62,10 +62,24 @@ class Diapause:
 
 
 @dataclass(frozen=True)
+class BiofixRule:
+    """The biofix is the first day, on or after ``after``, that begins ``days`` consecutive
+    days with Tmax at or above ``tmax_at_least`` (°C)."""
+
+    after: tuple[int, int]
+    tmax_at_least: float
+    days: int
+
+    def text(self) -> str:
+        return (f"first day from {self.after[0]:02d}-{self.after[1]:02d} beginning {self.days} "
+                f"days with Tmax >= {self.tmax_at_least:g} °C")
+
+
+@dataclass(frozen=True)
 class Biology:
     moisture: Moisture | None = None
     stages: tuple[Stage, ...] = ()
-    biofix: tuple[int, int] | None = None      # (month, day)
+    biofix: "tuple[int, int] | BiofixRule | None" = None      # (month, day) or a rule
     diapause: Diapause | None = None
 
     def to_dict(self) -> dict[str, Any]:
@@ -75,7 +89,10 @@ class Biology:
             d["moisture"] = {k: v for k, v in self.moisture.__dict__.items() if v is not None}
         if self.stages:
             d["stage"] = [dict(s.__dict__) for s in self.stages]
-        if self.biofix is not None:
+        if isinstance(self.biofix, BiofixRule):
+            d["biofix"] = {"after": f"{self.biofix.after[0]:02d}-{self.biofix.after[1]:02d}",
+                           "tmax_at_least": self.biofix.tmax_at_least, "days": self.biofix.days}
+        elif self.biofix is not None:
             d["biofix"] = f"{self.biofix[0]:02d}-{self.biofix[1]:02d}"
         if self.diapause is not None:
             d["diapause"] = dict(self.diapause.__dict__)
@@ -134,15 +151,33 @@ def _stages(raw: Any, lower: float, upper: float, where: str) -> tuple[Stage, ..
     return tuple(out)
 
 
-def _biofix(value: str | None, where: str) -> tuple[int, int] | None:
-    if value is None:
-        return None
-    m = _MMDD.match(value)
+def _date(value: Any, key: str, where: str) -> tuple[int, int]:
+    m = _MMDD.match(value) if isinstance(value, str) else None
     if not m or not (1 <= int(m.group(1)) <= 12) or not (
             1 <= int(m.group(2)) <= _DAYS_IN_MONTH[int(m.group(1)) - 1]) or value == "02-29":
-        raise ProfileError(f"{where}: season.biofix must be a fixed date as MM-DD (not 02-29), "
+        raise ProfileError(f"{where}: {key} must be a fixed date as MM-DD (not 02-29), "
                            f"got {value!r}")
     return int(m.group(1)), int(m.group(2))
+
+
+def _biofix(value: Any, where: str) -> "tuple[int, int] | BiofixRule | None":
+    if value is None:
+        return None
+    if not isinstance(value, dict):
+        return _date(value, "season.biofix", where)
+    keys = ("after", "tmax_at_least", "days")
+    if set(value) != set(keys):
+        raise ProfileError(f"{where}: season.biofix as a rule needs exactly the keys "
+                           f"{', '.join(keys)}, e.g. {{ after = \"03-01\", tmax_at_least = 12.0, "
+                           "days = 3 }")
+    x, n = value["tmax_at_least"], value["days"]
+    if isinstance(x, bool) or not isinstance(x, _NUM) or not -30 <= x <= 50:
+        raise ProfileError(f"{where}: season.biofix.tmax_at_least must be a temperature in °C, "
+                           f"got {x!r}")
+    if isinstance(n, bool) or not isinstance(n, int) or not 1 <= n <= 60:
+        raise ProfileError(f"{where}: season.biofix.days must be a whole number of days 1-60, "
+                           f"got {n!r}")
+    return BiofixRule(_date(value["after"], "season.biofix.after", where), float(x), n)
 
 
 def parse_biology(raw: dict, stage_raw: Any, biofix: str | None, development, where: str,

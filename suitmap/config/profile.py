@@ -115,7 +115,7 @@ _SCHEMA: dict[str, dict[str, tuple[tuple[type, ...], bool]]] = {
         "rate_curve": ((dict,), False),
     },
     "survival": {"lethal_cold": ((int, float), False), "lethal_heat": ((int, float), False)},
-    "season": {"start": ((str,), False), "end": ((str,), False), "biofix": ((str,), False)},
+    "season": {"start": ((str,), False), "end": ((str,), False), "biofix": ((str, dict), False)},
     "suitability": {"saturating_generations": ((int, float), False)},
 }
 _REQUIRED_TABLES = ("organism", "development")

@@ -31,17 +31,48 @@ from __future__ import annotations
 import numba
 import numpy as np
 
-__all__ = ["stage_walk"]
+__all__ = ["rule_start", "stage_walk"]
+
+
+def rule_start(tmax: np.ndarray, after: int, threshold: float, days: int) -> np.ndarray:
+    """Biofix by a rule: the first day index ``>= after`` that begins ``days`` consecutive
+    days with ``tmax >= threshold`` (NaN never qualifies).
+
+    Parameters
+    ----------
+    tmax : numpy.ndarray
+        ``(..., n_days)`` daily maximum temperature.
+
+    Returns
+    -------
+    numpy.ndarray of int64
+        ``(...)``; ``n_days`` where no such run starts (never).
+
+    References
+    ----------
+    # common practice, no source: a sustained-warmth start of accumulation, the
+    # temperature form of a biofix (the trade's biofix is usually a first catch).
+    """
+    ok = np.asarray(tmax, dtype=np.float64) >= threshold
+    nt = ok.shape[-1]
+    csum = np.concatenate([np.zeros(ok.shape[:-1] + (1,)), np.cumsum(ok, axis=-1)], axis=-1)
+    if days > nt:
+        return np.full(ok.shape[:-1], nt, dtype=np.int64)
+    run = (csum[..., days:] - csum[..., :-days]) == days        # run of `days` from index i
+    run[..., :max(0, after)] = False
+    hit = run.any(axis=-1)
+    return np.where(hit, run.argmax(axis=-1), nt).astype(np.int64)
 
 
 @numba.njit(cache=True, nogil=True)
-def _walk(dd, need, start, short, sens, first, gens, before):
+def _walk(dd, need, starts, short, sens, first, gens, before):
     n_st, nc, nt = dd.shape
     total = 0.0
     for s in range(n_st):
         total += need[s]
     use_cap = short.shape[0] > 0
     for c in range(nc):
+        start = starts[c]
         bad = False
         for s in range(n_st):
             first[c, s] = np.nan
@@ -57,7 +88,7 @@ def _walk(dd, need, start, short, sens, first, gens, before):
         cycles = 0
         stopped = False
         capped = -1.0
-        if use_cap and sens == 0 and short[c, start]:
+        if use_cap and sens == 0 and start < nt and short[c, start]:
             stopped = True             # the first generation enters its sensitive stage at the biofix
             capped = 0.0
         for t in range(start, nt):
@@ -106,9 +137,10 @@ def stage_walk(dd: np.ndarray, degree_days: np.ndarray, *, start: int = 0,
         degree-days (its own thresholds) on every day.
     degree_days : numpy.ndarray
         Degree-days each stage needs, shape ``(n_stages,)``, all > 0.
-    start : int
-        Index of the biofix day: accumulation starts on it (days before are
-        not used).
+    start : int or numpy.ndarray of int
+        Index of the biofix day, one for all cells or one per cell (shape
+        ``dd.shape[1:-1]``): accumulation starts on it (days before are not
+        used); ``n_days`` or more: never (no event, zero generations).
     short_days : numpy.ndarray of bool, optional
         Shape ``(..., n_days)``: days shorter than the critical day length and
         shortening.  None: no photoperiod cap.
@@ -136,10 +168,13 @@ def stage_walk(dd: np.ndarray, degree_days: np.ndarray, *, start: int = 0,
         raise ValueError("dd must be (n_stages, ..., n_days) and degree_days (n_stages,) > 0")
     shape = dd.shape[1:-1]
     nt = dd.shape[-1]
-    if not 0 <= start < nt:
-        raise ValueError(f"start {start} must index one of the {nt} days")
     flat = np.ascontiguousarray(dd.reshape(dd.shape[0], -1, nt))
     nc = flat.shape[1]
+    starts = np.ascontiguousarray(np.broadcast_to(np.asarray(start, dtype=np.int64), shape)
+                                  .reshape(nc))
+    if np.any(starts < 0):
+        raise ValueError("start must not be negative")
+    starts = np.minimum(starts, nt)
     if short_days is None:
         short = np.zeros((0, 0), dtype=np.bool_)
         sens = -1
@@ -152,5 +187,5 @@ def stage_walk(dd: np.ndarray, degree_days: np.ndarray, *, start: int = 0,
     first = np.empty((nc, dd.shape[0]))
     gens = np.empty(nc)
     before = np.empty(nc)
-    _walk(flat, need, int(start), short, sens, first, gens, before)
+    _walk(flat, need, starts, short, sens, first, gens, before)
     return first.reshape(shape + (dd.shape[0],)), gens.reshape(shape), before.reshape(shape)

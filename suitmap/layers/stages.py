@@ -3,7 +3,8 @@
 With ``[[stage]]`` tables in the profile each season is walked stage by stage
 (:func:`suitmap.kernels.stages.stage_walk`), each stage on its own thresholds'
 daily degree-days (the profile's method and cutoff), from the biofix
-(``[season] biofix``, else the season's first day).  Per period:
+(``[season] biofix``: a date, or the first day from a date that begins n days
+with Tmax at or above a level; else the season's first day).  Per period:
 
     first_<stage>_day   mean day of season on which the first generation completes <stage>,
                         over the seasons in which it does
@@ -22,17 +23,18 @@ from __future__ import annotations
 import numpy as np
 import xarray as xr
 
+from suitmap.config.biology import BiofixRule
 from suitmap.errors import ProfileError
 from suitmap.kernels.degree_days import degree_days_block
 from suitmap.kernels.diurnal import daylength
-from suitmap.kernels.stages import stage_walk
+from suitmap.kernels.stages import rule_start, stage_walk
 from suitmap.layers.metadata import LIMITING_FACTOR_CLASSES, MISSING_CLASS, layer_attrs
 from suitmap.layers.seasons import (complete_seasons, day360_to_365, season_index, season_labels,
                                     time_fields)
 
 
 def _block(tmin, tmax, lat, *, slices_north, slices_south, starts_north, starts_south, doy,
-           stages, method, cutoff, critical, sensitive):
+           stages, method, cutoff, critical, sensitive, rule=None):
     """(y, x, n_stages + 2) of one season: first days per stage, generations, before-diapause."""
     ny, nx, nt = tmin.shape
     n = len(stages)
@@ -59,6 +61,8 @@ def _block(tmin, tmax, lat, *, slices_north, slices_south, starts_north, starts_
             today = daylength(la, d[None, None, :])
             before = daylength(la, d[None, None, :] - 1.0)
             short = (today < critical) & (today < before)
+        if rule is not None:      # per cell: first day from the rule's date that begins the warm run
+            start = rule_start(b, start, rule[0], rule[1])
         first, gens, capped = stage_walk(dd, need, start=start, short_days=short,
                                          sensitive_stage=sensitive)
         res = np.concatenate([first, gens[..., None], capped[..., None]], axis=-1)
@@ -69,6 +73,8 @@ def _block(tmin, tmax, lat, *, slices_north, slices_south, starts_north, starts_
 def _start(months, days, sl, biofix, what: str) -> int:
     if sl is None or biofix is None:
         return 0
+    if isinstance(biofix, BiofixRule):
+        biofix = biofix.after
     i0, i1 = sl
     hit = np.flatnonzero((months[i0:i1] == biofix[0]) & (days[i0:i1] == biofix[1]))
     if hit.size == 0:
@@ -116,7 +122,9 @@ def stage_statistics(tmin, tmax, profile, years, lat, windows, label=""):
                   doy=doy[s0:stop], stages=stages, method=profile.development.method,
                   cutoff=profile.development.cutoff,
                   critical=None if dia is None else dia.critical_daylength,
-                  sensitive=-1 if dia is None else names.index(dia.sensitive_stage))
+                  sensitive=-1 if dia is None else names.index(dia.sensitive_stage),
+                  rule=((bio.biofix.tmax_at_least, bio.biofix.days)
+                        if isinstance(bio.biofix, BiofixRule) else None))
         if not per_hemisphere:   # one window for every cell: the north slot serves all
             kw["slices_south"] = kw["slices_north"]
             kw["starts_south"] = kw["starts_north"]
@@ -190,8 +198,11 @@ def apply_stages(ds: xr.Dataset, tmin, tmax, profile, years, *, lat, windows,
     for name, da in new.items():
         ds[name] = da.astype(np.float32)
         ds[name].attrs = layer_attrs(name)
+    fix = ("the season start" if bio.biofix is None else
+           f"biofix {bio.biofix.text()}" if isinstance(bio.biofix, BiofixRule) else
+           "biofix %02d-%02d" % bio.biofix)
     how = (f"life stages {', '.join(s.name for s in bio.stages)} (each on its own thresholds), "
-           f"from {'biofix %02d-%02d' % bio.biofix if bio.biofix else 'the season start'}")
+           f"from {fix}")
     ds.attrs["generations_from"] = how
     for name in ("generations", "complete_generations", "first_generation_day",
                  "years_with_generation"):
