@@ -54,6 +54,15 @@ class DeltaChange:
 
 
 @dataclass(frozen=True)
+class Mismatch:
+    """Two organisms out of step: event of a second profile minus an event of the run's own."""
+
+    profile_path: Path
+    event: str = "first_generation_day"            # a layer of the second profile
+    reference_event: str = "first_generation_day"  # a layer of the run's profile
+
+
+@dataclass(frozen=True)
 class Output:
     dir: Path
     formats: tuple[str, ...] = FORMATS
@@ -74,6 +83,7 @@ class RunFile:
     fast_tables: bool = True
     threads: int | None = None
     diurnal: str | None = None    # overrides the profile's development.diurnal
+    mismatch: Mismatch | None = None
     raw: dict[str, Any] = field(default_factory=dict, compare=False, repr=False)
 
     @property
@@ -242,7 +252,8 @@ def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
     """Validate a run file given as a dict; ``path`` anchors relative paths."""
     where = f"run file {path}"
     base = path.parent
-    _keys(raw, ("profile", "baseline", "scenario", "scenario_set", "output", "compute"), where, "")
+    _keys(raw, ("profile", "baseline", "scenario", "scenario_set", "output", "compute", "mismatch"),
+          where, "")
     prof = raw.get("profile")
     if isinstance(prof, dict) and isinstance(prof.get("library"), str) and "path" not in prof:
         from suitmap.config import library
@@ -330,7 +341,28 @@ def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
     return RunFile(path=path, profile_path=Path(_resolve(base, prof["path"])), baseline=baseline,
                    scenarios=scenarios, output=output, chunk_cells=chunk, monthly_route=route,
                    daily_sd=None if sd is None else float(sd), fast_tables=fast,
-                   threads=threads, diurnal=diurnal, raw=raw)
+                   threads=threads, diurnal=diurnal, raw=raw,
+                   mismatch=_mismatch(raw.get("mismatch"), base, where))
+
+
+_EVENT = re.compile(r"^first_[a-z][a-z0-9_]*_day$")
+
+
+def _mismatch(raw: Any, base: Path, where: str) -> Mismatch | None:
+    if raw is None:
+        return None
+    if not isinstance(raw, dict):
+        raise RunFileError(f"{where}: [mismatch] must be a table")
+    _keys(raw, ("profile", "event", "reference_event"), where, "mismatch")
+    if not isinstance(raw.get("profile"), str):
+        raise RunFileError(f"{where}: mismatch.profile must name the second organism's profile .toml")
+    for key in ("event", "reference_event"):
+        value = raw.get(key, "first_generation_day")
+        if not isinstance(value, str) or not _EVENT.match(value):
+            raise RunFileError(f"{where}: mismatch.{key} must be an event layer, "
+                               f"first_generation_day or first_<stage>_day, got {value!r}")
+    return Mismatch(Path(_resolve(base, raw["profile"])), raw.get("event", "first_generation_day"),
+                    raw.get("reference_event", "first_generation_day"))
 
 
 def load_run(path: str | Path) -> RunFile:

@@ -96,7 +96,7 @@ NUMERIC_LAYERS = (
 )
 #: Numeric layers present only with precipitation or [diapause]; compared like the above.
 OPTIONAL_NUMERIC_LAYERS = ("annual_precipitation", "dry_months", "aridity_index",
-                           "moisture_score", "generations_before_diapause")
+                           "moisture_score", "generations_before_diapause", "mismatch_days")
 
 
 def layer_attrs(name: str) -> dict[str, Any]:

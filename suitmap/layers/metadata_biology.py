@@ -28,6 +28,12 @@ BIOLOGY_LAYER_ATTRS: dict[str, dict[str, Any]] = {
         "long_name": "moisture score: the least of the profile's moisture factors (0-1)",
         "cell_methods": "time: mean over years",
     },
+    "mismatch_days": {
+        "units": "days",
+        "long_name": "days from an event of the run's organism to an event of a second organism "
+                     "(second minus first; means over the seasons in which each happens)",
+        "cell_methods": "time: mean over years where the events happen",
+    },
     "generations_before_diapause": {
         "units": "1",
         "long_name": "whole generations per season completed before a generation reaches its "

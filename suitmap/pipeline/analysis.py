@@ -248,6 +248,13 @@ def compute_run(run: RunFile | str | Path) -> RunLayers:
     keys: dict[str, str] = {}
     template = None
     base_clim = None
+    other = None
+    extra_key = {}
+    if run.mismatch is not None:
+        from suitmap.pipeline.mismatch import second_profile
+
+        other = second_profile(run, profile)
+        extra_key = {"mismatch": [other.to_dict(), run.mismatch.event, run.mismatch.reference_event]}
     for period in run.periods:
         if period.delta is not None:
             pc = delta_downscaled(period, base_clim, profile)
@@ -264,10 +271,10 @@ def compute_run(run: RunFile | str | Path) -> RunLayers:
         if pc.tmin.attrs.get("frequency") == "monthly":  # the quick "normal" route
             from suitmap.layers.monthly_normal import normal_route_layers
 
-            if pc.pr is not None or profile.biology.stages:
-                raise InputError("precipitation (pr) and [[stage]] tables need daily temperatures "
-                                 "or monthly_route = \"interpolate\"; the \"normal\" route has "
-                                 "no moisture or stage layers yet")
+            if pc.pr is not None or profile.biology.stages or run.mismatch is not None:
+                raise InputError("precipitation (pr), [[stage]] tables and [mismatch] need daily "
+                                 "temperatures or monthly_route = \"interpolate\"; the \"normal\" "
+                                 "route has no moisture, stage or mismatch layers yet")
             if run.daily_sd is None:
                 raise InputError("monthly_route = \"normal\" needs [compute] daily_sd (the standard "
                                  "deviation of daily mean temperature within a month, °C)")
@@ -278,6 +285,10 @@ def compute_run(run: RunFile | str | Path) -> RunLayers:
                                 fast=run.fast_tables, pr=pc.pr)
             if "monthly_route" in pc.tmin.attrs:
                 ds.attrs["monthly_route"] = pc.tmin.attrs["monthly_route"]
+            if run.mismatch is not None:   # a second organism on the same climate
+                from suitmap.pipeline.mismatch import add_mismatch
+
+                ds = add_mismatch(ds, pc.tmin, pc.tmax, other, years, run, label=period.name)
         if period.delta is not None:
             ds.attrs["downscaling"] = (f"delta change, {period.delta.smoothing} deltas "
                                        f"(window {period.delta.window_days} d) of model years "
@@ -298,7 +309,7 @@ def compute_run(run: RunFile | str | Path) -> RunLayers:
         keys[period.name] = period_key(profile.to_dict(), period, pc.files,
                                        None if period is run.baseline else inputs[run.baseline.name],
                                        {"monthly_route": run.monthly_route, "daily_sd": run.daily_sd,
-                                        "fast_tables": run.fast_tables})
+                                        "fast_tables": run.fast_tables, **extra_key})
     comps, ensembles = derive(run, periods)
     return RunLayers(run, profile, periods, comps, inputs, ensembles, keys)
 
