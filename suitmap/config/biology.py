@@ -23,7 +23,9 @@ BIOLOGY_SCHEMA: dict[str, dict[str, tuple[tuple[type, ...], bool]]] = {
         "max_aridity_index": (_NUM, False),
     },
     "diapause": {"critical_daylength": (_NUM, True), "sensitive_stage": ((str,), True)},
+    "uncertainty": {"parameters": ((list,), True), "covariance": ((list,), True)},
 }
+UNCERTAIN_PARAMETERS = ("lower_threshold", "upper_threshold", "degree_days_per_generation")
 _STAGE_KEYS = ("name", "lower_threshold", "upper_threshold", "degree_days")
 _STAGE_NAME = re.compile(r"^[a-z][a-z0-9_]{0,30}$")
 _MMDD = re.compile(r"^(\d{2})-(\d{2})$")
@@ -76,11 +78,20 @@ class BiofixRule:
 
 
 @dataclass(frozen=True)
+class Uncertainty:
+    """Covariance of fitted parameters (development keys), for parameter draws."""
+
+    parameters: tuple[str, ...]
+    covariance: tuple[tuple[float, ...], ...]
+
+
+@dataclass(frozen=True)
 class Biology:
     moisture: Moisture | None = None
     stages: tuple[Stage, ...] = ()
     biofix: "tuple[int, int] | BiofixRule | None" = None      # (month, day) or a rule
     diapause: Diapause | None = None
+    uncertainty: Uncertainty | None = None
 
     def to_dict(self) -> dict[str, Any]:
         """Only what is configured, so profiles without these tables hash as before."""
@@ -96,6 +107,9 @@ class Biology:
             d["biofix"] = f"{self.biofix[0]:02d}-{self.biofix[1]:02d}"
         if self.diapause is not None:
             d["diapause"] = dict(self.diapause.__dict__)
+        if self.uncertainty is not None:
+            d["uncertainty"] = {"parameters": list(self.uncertainty.parameters),
+                                "covariance": [list(r) for r in self.uncertainty.covariance]}
         return d
 
 
@@ -196,8 +210,36 @@ def parse_biology(raw: dict, stage_raw: Any, biofix: str | None, development, wh
             raise ProfileError(f"{where}: diapause.sensitive_stage {d['sensitive_stage']!r} is not "
                                "one of the [[stage]] names; name the stage that senses day length")
         diapause = Diapause(hours, d["sensitive_stage"])
+    uncertainty = (_uncertainty(check_table(raw, "uncertainty", where), development, where)
+                   if "uncertainty" in raw else None)
     fix = _biofix(biofix, where)
     if fix is not None and not stages:
         raise ProfileError(f"{where}: season.biofix is used by [[stage]] tables; add the stages "
                            "or remove the biofix")
-    return Biology(moisture, stages, fix, diapause)
+    return Biology(moisture, stages, fix, diapause, uncertainty)
+
+
+def _uncertainty(section: dict, development, where: str) -> Uncertainty:
+    import numpy as np
+
+    names = section["parameters"]
+    if (not names or not all(isinstance(n, str) for n in names) or len(set(names)) != len(names)
+            or any(n not in UNCERTAIN_PARAMETERS for n in names)):
+        raise ProfileError(f"{where}: uncertainty.parameters must list distinct development keys "
+                           f"from {', '.join(UNCERTAIN_PARAMETERS)}, got {names!r}")
+    if "degree_days_per_generation" in names and development.degree_days_per_generation is None:
+        raise ProfileError(f"{where}: uncertainty names degree_days_per_generation, which the "
+                           "profile does not set")
+    cov = section["covariance"]
+    k = len(names)
+    if (not isinstance(cov, list) or len(cov) != k or not all(
+            isinstance(r, list) and len(r) == k and all(
+                isinstance(v, (int, float)) and not isinstance(v, bool) for v in r) for r in cov)):
+        raise ProfileError(f"{where}: uncertainty.covariance must be a {k} x {k} table of numbers "
+                           "(one row per parameter)")
+    c = np.array(cov, dtype=float)
+    if not np.allclose(c, c.T, rtol=1e-9, atol=1e-12) or np.linalg.eigvalsh(c).min() < -1e-9 * max(
+            1.0, float(np.abs(c).max())):
+        raise ProfileError(f"{where}: uncertainty.covariance must be symmetric and positive "
+                           "semi-definite")
+    return Uncertainty(tuple(names), tuple(tuple(float(v) for v in r) for r in cov))

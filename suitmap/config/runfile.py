@@ -84,6 +84,8 @@ class RunFile:
     threads: int | None = None
     diurnal: str | None = None    # overrides the profile's development.diurnal
     mismatch: Mismatch | None = None
+    parameter_draws: int | None = None    # draws of the profile's [uncertainty]
+    parameter_seed: int = 0
     raw: dict[str, Any] = field(default_factory=dict, compare=False, repr=False)
 
     @property
@@ -316,7 +318,11 @@ def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
     if not isinstance(compute, dict):
         raise RunFileError(f"{where}: [compute] must be a table")
     _keys(compute, ("chunk_cells", "monthly_route", "daily_sd", "fast_tables", "threads",
-                    "diurnal"), where, "compute")
+                    "diurnal", "parameter_draws", "parameter_seed"), where, "compute")
+    draws, seed = compute.get("parameter_draws"), compute.get("parameter_seed", 0)
+    for key, v, lo in (("parameter_draws", draws, 2), ("parameter_seed", seed, 0)):
+        if v is not None and (isinstance(v, bool) or not isinstance(v, int) or v < lo):
+            raise RunFileError(f"{where}: compute.{key} must be a whole number of at least {lo}")
     fast = compute.get("fast_tables", True)
     if not isinstance(fast, bool):
         raise RunFileError(f"{where}: compute.fast_tables must be true or false")
@@ -342,7 +348,8 @@ def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
                    scenarios=scenarios, output=output, chunk_cells=chunk, monthly_route=route,
                    daily_sd=None if sd is None else float(sd), fast_tables=fast,
                    threads=threads, diurnal=diurnal, raw=raw,
-                   mismatch=_mismatch(raw.get("mismatch"), base, where))
+                   mismatch=_mismatch(raw.get("mismatch"), base, where),
+                   parameter_draws=draws, parameter_seed=seed)
 
 
 _EVENT = re.compile(r"^first_[a-z][a-z0-9_]*_day$")

@@ -103,7 +103,8 @@ def layer_attrs(name: str) -> dict[str, Any]:
     """Attributes of layer ``name``; ``change_<layer>`` gets the layer's units."""
     if name in LAYER_ATTRS:
         return dict(LAYER_ATTRS[name])
-    if name.startswith(("first_", "years_with_")) and not name.startswith("first_generation"):
+    if name.startswith(("first_", "years_with_", "probability_generations_ge_")) and not \
+            name.startswith("first_generation"):
         return stage_layer_attrs(name)
     if name.startswith("change_"):
         base = LAYER_ATTRS[name[len("change_"):]]

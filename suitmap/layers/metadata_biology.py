@@ -43,6 +43,15 @@ BIOLOGY_LAYER_ATTRS: dict[str, dict[str, Any]] = {
 }
 
 
+for _q in (10, 50, 90):
+    BIOLOGY_LAYER_ATTRS[f"suitability_p{_q}"] = {
+        "units": "1",
+        "long_name": f"{_q}th percentile of suitability over draws of the profile's fitted "
+                     "parameters (parameter uncertainty)",
+        "cell_methods": "time: mean over years",
+    }
+
+
 def stage_layer_attrs(name: str) -> dict[str, Any]:
     """``first_<stage>_day`` and ``years_with_<stage>`` of a profile's [[stage]] tables."""
     if name.startswith("first_") and name.endswith("_day"):
@@ -52,6 +61,12 @@ def stage_layer_attrs(name: str) -> dict[str, Any]:
                              f"completes the {stage} stage, mean over seasons in which it does; "
                              f"where it never does, years_with_{stage} is 0",
                 "cell_methods": "time: mean over years where the event happens"}
+    if name.startswith("probability_generations_ge_"):
+        n = name[len("probability_generations_ge_"):]
+        return {"units": "1",
+                "long_name": f"share of parameter draws with at least {n} complete generations "
+                             "per season (mean over seasons)",
+                "cell_methods": "time: mean over years"}
     if name.startswith("years_with_"):
         stage = name[len("years_with_"):]
         return {"units": "1",

@@ -285,6 +285,16 @@ def compute_run(run: RunFile | str | Path) -> RunLayers:
                                 fast=run.fast_tables, pr=pc.pr)
             if "monthly_route" in pc.tmin.attrs:
                 ds.attrs["monthly_route"] = pc.tmin.attrs["monthly_route"]
+            if run.parameter_draws and profile.biology.uncertainty is None:
+                from suitmap.errors import RunFileError
+
+                raise RunFileError(f"run file {run.path}: compute.parameter_draws needs an "
+                                   "[uncertainty] table (parameters, covariance) in the profile")
+            if run.parameter_draws:
+                from suitmap.pipeline.uncertainty import add_probability_layers
+
+                ds = add_probability_layers(ds, pc.tmin, pc.tmax, profile, years, run,
+                                            label=period.name)
             if run.mismatch is not None:   # a second organism on the same climate
                 from suitmap.pipeline.mismatch import add_mismatch
 
@@ -309,7 +319,9 @@ def compute_run(run: RunFile | str | Path) -> RunLayers:
         keys[period.name] = period_key(profile.to_dict(), period, pc.files,
                                        None if period is run.baseline else inputs[run.baseline.name],
                                        {"monthly_route": run.monthly_route, "daily_sd": run.daily_sd,
-                                        "fast_tables": run.fast_tables, **extra_key})
+                                        "fast_tables": run.fast_tables, **extra_key,
+                                        **({"draws": [run.parameter_draws, run.parameter_seed]}
+                                           if run.parameter_draws else {})})
     comps, ensembles = derive(run, periods)
     return RunLayers(run, profile, periods, comps, inputs, ensembles, keys)
 
