@@ -24,6 +24,7 @@ BIOLOGY_SCHEMA: dict[str, dict[str, tuple[tuple[type, ...], bool]]] = {
     },
     "diapause": {"critical_daylength": (_NUM, True), "sensitive_stage": ((str,), True)},
     "uncertainty": {"parameters": ((list,), True), "covariance": ((list,), True)},
+    "tested_range": {"min_temperature": (_NUM, True), "max_temperature": (_NUM, True)},
 }
 UNCERTAIN_PARAMETERS = ("lower_threshold", "upper_threshold", "degree_days_per_generation")
 _STAGE_KEYS = ("name", "lower_threshold", "upper_threshold", "degree_days")
@@ -92,6 +93,7 @@ class Biology:
     biofix: "tuple[int, int] | BiofixRule | None" = None      # (month, day) or a rule
     diapause: Diapause | None = None
     uncertainty: Uncertainty | None = None
+    tested_range: tuple[float, float] | None = None   # °C, the lab data's constant temperatures
 
     def to_dict(self) -> dict[str, Any]:
         """Only what is configured, so profiles without these tables hash as before."""
@@ -107,6 +109,8 @@ class Biology:
             d["biofix"] = f"{self.biofix[0]:02d}-{self.biofix[1]:02d}"
         if self.diapause is not None:
             d["diapause"] = dict(self.diapause.__dict__)
+        if self.tested_range is not None:
+            d["tested_range"] = list(self.tested_range)
         if self.uncertainty is not None:
             d["uncertainty"] = {"parameters": list(self.uncertainty.parameters),
                                 "covariance": [list(r) for r in self.uncertainty.covariance]}
@@ -216,7 +220,14 @@ def parse_biology(raw: dict, stage_raw: Any, biofix: str | None, development, wh
     if fix is not None and not stages:
         raise ProfileError(f"{where}: season.biofix is used by [[stage]] tables; add the stages "
                            "or remove the biofix")
-    return Biology(moisture, stages, fix, diapause, uncertainty)
+    tested = None
+    if "tested_range" in raw:
+        t = check_table(raw, "tested_range", where)
+        tested = (float(t["min_temperature"]), float(t["max_temperature"]))
+        if not tested[0] < tested[1]:
+            raise ProfileError(f"{where}: tested_range.min_temperature ({tested[0]}) must be below "
+                               f"tested_range.max_temperature ({tested[1]})")
+    return Biology(moisture, stages, fix, diapause, uncertainty, tested)
 
 
 def _uncertainty(section: dict, development, where: str) -> Uncertainty:

@@ -358,7 +358,11 @@ def compute_layers(tmin: xr.DataArray, tmax: xr.DataArray, profile: Profile,
 
         ds = apply_moisture(ds, pr, tmin, tmax, cell_latitudes(tmin.isel(time=0)), years,
                             profile.biology.moisture, label=label)
-    elif profile.biology.moisture is not None:
+    if profile.biology.tested_range is not None:
+        from suitmap.layers.tested_range import add_outside_tested_range
+
+        ds = add_outside_tested_range(ds, tmin, tmax, profile, years)
+    if pr is None and profile.biology.moisture is not None:
         import warnings
 
         from suitmap.errors import SuitmapWarning

@@ -28,6 +28,13 @@ BIOLOGY_LAYER_ATTRS: dict[str, dict[str, Any]] = {
         "long_name": "moisture score: the least of the profile's moisture factors (0-1)",
         "cell_methods": "time: mean over years",
     },
+    "outside_tested_range": {
+        "units": "1",
+        "long_name": "1 where some day's mean temperature leaves the range of the lab data the "
+                     "profile was fitted to (above it, or below it while above the lower "
+                     "threshold), 0 elsewhere",
+        "cell_methods": "time: maximum",
+    },
     "mismatch_days": {
         "units": "days",
         "long_name": "days from an event of the run's organism to an event of a second organism "

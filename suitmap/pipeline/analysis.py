@@ -330,6 +330,12 @@ def finish_period(ds: xr.Dataset) -> xr.Dataset:
     """Move the computed Tmin > Tmax count from a variable to an attribute (warning if > 0)."""
     if "tmin_tmax_swapped_cell_days" not in ds:
         return ds
+    if "outside_tested_range" in ds and float(ds["outside_tested_range"].sum()) > 0:
+        cells = int(ds["outside_tested_range"].sum())
+        warnings.warn(f"period '{ds.attrs.get('period')}': in {cells} cells the daily mean "
+                      f"temperature leaves the profile's tested range ({ds.attrs.get('tested_range')}); "
+                      "development there is extrapolated (layer outside_tested_range)",
+                      SuitmapWarning, stacklevel=2)
     n = int(ds["tmin_tmax_swapped_cell_days"].values)
     ds = ds.drop_vars("tmin_tmax_swapped_cell_days")
     ds.attrs["tmin_tmax_swapped_cell_days"] = n
