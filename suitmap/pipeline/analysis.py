@@ -27,6 +27,7 @@ from suitmap.config.runfile import Period, RunFile, load_run
 from suitmap.pipeline.preflight import (check_output_names, comparison_name, ensemble_name,  # noqa: F401
                                         named_read_errors)
 from suitmap.pipeline.scheduling import threads
+from suitmap.pipeline.whatif import apply_offsets, describe
 
 #: Target size (bytes) of one spatial chunk of one daily variable in float32.
 CHUNK_BYTES = 32 * 2**20
@@ -50,6 +51,7 @@ class PeriodClimate:
     qa: "climate.ClimateQA | None" = None
     files: dict[str, list[str]] = field(default_factory=dict)
     notes: list[str] = field(default_factory=list)
+    pr: "xr.DataArray | None" = None   # precipitation, mm/day (daily or monthly)
 
 
 def _as_run(run: RunFile | str | Path) -> RunFile:
@@ -152,7 +154,12 @@ def open_period(period: Period, profile: Profile, *, chunk_cells: int | None = N
     tmax = tmax.chunk(dict(zip(tmax.dims, tmin.chunks)))  # the same blocks as tmin
     report = climate.qa_summary(tmin, tmax, period.name) if qa else None
     tmin, tmax, swapped = _swap_lazily(tmin, tmax)
-    return PeriodClimate(period, tmin, tmax, swapped, report, files)
+    pc = PeriodClimate(period, tmin, tmax, swapped, report, files)
+    if period.pr is not None:
+        from suitmap.pipeline.precipitation import open_period_precipitation
+
+        open_period_precipitation(pc, chunk_side(366, chunk_cells))
+    return pc
 
 
 def _swap_lazily(tmin: xr.DataArray, tmax: xr.DataArray):
@@ -250,6 +257,13 @@ def compute_run(run: RunFile | str | Path) -> RunLayers:
     keys: dict[str, str] = {}
     template = None
     base_clim = None
+    other = None
+    extra_key = {}
+    if run.mismatch is not None:
+        from suitmap.pipeline.mismatch import second_profile
+
+        other = second_profile(run, profile)
+        extra_key = {"mismatch": [other.to_dict(), run.mismatch.event, run.mismatch.reference_event]}
     for period in run.periods:
         if period.delta is not None:
             pc = delta_downscaled(period, base_clim, profile, run.accept_implausible)
@@ -261,9 +275,16 @@ def compute_run(run: RunFile | str | Path) -> RunLayers:
             years = period.years
         if base_clim is None:
             base_clim = pc
+        if describe(period):   # what-if offsets; delta scenarios keep the unmodified baseline days
+            pc = replace(pc, notes=list(pc.notes))
+            apply_offsets(pc)
         if pc.tmin.attrs.get("frequency") == "monthly":  # the quick "normal" route
             from suitmap.layers.monthly_normal import normal_route_layers
 
+            if pc.pr is not None or profile.biology.stages or run.mismatch is not None:
+                raise InputError("precipitation (pr), [[stage]] tables and [mismatch] need daily "
+                                 "temperatures or monthly_route = \"interpolate\"; the \"normal\" "
+                                 "route has no moisture, stage or mismatch layers yet")
             if run.daily_sd is None:
                 raise InputError("monthly_route = \"normal\" needs [compute] daily_sd (the standard "
                                  "deviation of daily mean temperature within a month, °C)")
@@ -271,9 +292,23 @@ def compute_run(run: RunFile | str | Path) -> RunLayers:
             ds.attrs["period"] = period.name
         else:
             ds = compute_layers(pc.tmin, pc.tmax, profile, years, label=period.name,
-                                fast=run.fast_tables)
+                                fast=run.fast_tables, pr=pc.pr)
             if "monthly_route" in pc.tmin.attrs:
                 ds.attrs["monthly_route"] = pc.tmin.attrs["monthly_route"]
+            if run.parameter_draws and profile.biology.uncertainty is None:
+                from suitmap.errors import RunFileError
+
+                raise RunFileError(f"run file {run.path}: compute.parameter_draws needs an "
+                                   "[uncertainty] table (parameters, covariance) in the profile")
+            if run.parameter_draws:
+                from suitmap.pipeline.uncertainty import add_probability_layers
+
+                ds = add_probability_layers(ds, pc.tmin, pc.tmax, profile, years, run,
+                                            label=period.name)
+            if run.mismatch is not None:   # a second organism on the same climate
+                from suitmap.pipeline.mismatch import add_mismatch
+
+                ds = add_mismatch(ds, pc.tmin, pc.tmax, other, years, run, label=period.name)
         if period.delta is not None:
             ds.attrs["downscaling"] = (f"delta change, {period.delta.smoothing} deltas "
                                        f"(window {period.delta.window_days} d) of model years "
@@ -289,13 +324,17 @@ def compute_run(run: RunFile | str | Path) -> RunLayers:
             template = ds  # the baseline's grid is the template of every comparison
         else:
             ds = snap_layers(ds, template)
+        if describe(period):
+            ds.attrs["temperature_offsets"] = describe(period)
         ds["tmin_tmax_swapped_cell_days"] = pc.swapped
         periods[period.name] = ds
         inputs[period.name] = pc.files
         keys[period.name] = period_key(profile.to_dict(), period, pc.files,
                                        None if period is run.baseline else inputs[run.baseline.name],
                                        {"monthly_route": run.monthly_route, "daily_sd": run.daily_sd,
-                                        "fast_tables": run.fast_tables})
+                                        "fast_tables": run.fast_tables, **extra_key,
+                                        **({"draws": [run.parameter_draws, run.parameter_seed]}
+                                           if run.parameter_draws else {})})
     comps, ensembles = derive(run, periods)
     return RunLayers(run, profile, periods, comps, inputs, ensembles, keys)
 
@@ -304,6 +343,12 @@ def finish_period(ds: xr.Dataset) -> xr.Dataset:
     """Move the computed Tmin > Tmax count from a variable to an attribute (warning if > 0)."""
     if "tmin_tmax_swapped_cell_days" not in ds:
         return ds
+    if "outside_tested_range" in ds and float(ds["outside_tested_range"].sum()) > 0:
+        cells = int(ds["outside_tested_range"].sum())
+        warnings.warn(f"period '{ds.attrs.get('period')}': in {cells} cells the daily mean "
+                      f"temperature leaves the profile's tested range ({ds.attrs.get('tested_range')}); "
+                      "development there is extrapolated (layer outside_tested_range)",
+                      SuitmapWarning, stacklevel=2)
     n = int(ds["tmin_tmax_swapped_cell_days"].values)
     ds = ds.drop_vars("tmin_tmax_swapped_cell_days")
     ds.attrs["tmin_tmax_swapped_cell_days"] = n
