@@ -8,7 +8,7 @@ A profile without these tables gets an empty :class:`Biology` and behaves as bef
 from __future__ import annotations
 
 import re
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from typing import Any, Callable
 
 from suitmap.errors import ProfileError
