@@ -11,6 +11,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
+from suitmap.config.geography import Geography, geography_from_dict
 from suitmap.config.toml_file import read_toml
 from suitmap.errors import RunFileError
 
@@ -71,6 +72,7 @@ class RunFile:
     fast_tables: bool = True
     threads: int | None = None
     diurnal: str | None = None    # overrides the profile's development.diurnal
+    geography: "Geography | None" = None  # [regions], [terrain], [ranges]
     raw: dict[str, Any] = field(default_factory=dict, compare=False, repr=False)
 
     @property
@@ -220,7 +222,8 @@ def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
     """Validate a run file given as a dict; ``path`` anchors relative paths."""
     where = f"run file {path}"
     base = path.parent
-    _keys(raw, ("profile", "baseline", "scenario", "scenario_set", "output", "compute"), where, "")
+    _keys(raw, ("profile", "baseline", "scenario", "scenario_set", "output", "compute", "regions",
+                "terrain", "ranges"), where, "")
     prof = raw.get("profile")
     if isinstance(prof, dict) and isinstance(prof.get("library"), str) and "path" not in prof:
         from suitmap.config import library
@@ -304,7 +307,8 @@ def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
     return RunFile(path=path, profile_path=Path(_resolve(base, prof["path"])), baseline=baseline,
                    scenarios=scenarios, output=output, chunk_cells=chunk, monthly_route=route,
                    daily_sd=None if sd is None else float(sd), fast_tables=fast,
-                   threads=threads, diurnal=diurnal, raw=raw)
+                   threads=threads, diurnal=diurnal,
+                   geography=geography_from_dict(raw, base, where), raw=raw)
 
 
 def load_run(path: str | Path) -> RunFile:

@@ -404,6 +404,9 @@ def run(run: RunFile | str | Path, *, overwrite: bool = False, progress: bool = 
     run = _as_run(run)
     folder = OutputFolder(run.output.dir, run.path, overwrite)
     folder.check()
+    from suitmap.pipeline.regions import check_geography
+
+    check_geography(run)  # [regions] and [terrain] files readable before any work
     lazy = compute_run(run)
     periods: dict[str, xr.Dataset] = {}
     with folder, dask.config.set(num_workers=threads(run.threads)):
@@ -418,4 +421,7 @@ def run(run: RunFile | str | Path, *, overwrite: bool = False, progress: bool = 
                 periods[name] = got
         comps, ens = derive(run, periods)
         layers = RunLayers(run, lazy.profile, periods, comps, lazy.inputs, ens, lazy.keys)
+        from suitmap.pipeline.regions import add_range_layers
+
+        layers = add_range_layers(layers)  # [ranges] dispersal_km_per_year: range_change layers
         return write_outputs(layers, folder=folder)

@@ -1,0 +1,147 @@
+"""Regions and ranges in a run: [regions], [terrain], [ranges], `suitmap summarize`."""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import warnings
+
+import geopandas as gpd
+import numpy as np
+import pandas as pd
+import pytest
+import rasterio
+from rasterio.transform import from_origin
+from shapely.geometry import box
+
+from suitmap.cli import main
+from suitmap.config.runfile import load_run
+from suitmap.errors import InputError, RunFileError, SuitmapWarning
+from suitmap.pipeline.analysis import run
+
+# small_case: lon −2…3, lat 46…50, 1° cells, cell (row 0, col 0) missing (tests/conftest.py)
+
+
+def write_regions(folder, crs="EPSG:3035"):
+    polys = {"west": box(-2.0, 48.0, 0.0, 50.0),       # includes the missing cell
+             "tiny": box(1.2, 47.2, 1.3, 47.3),         # inside the cell centred at 1.5, 47.5
+             "away": box(20.0, 20.0, 21.0, 21.0)}       # outside the grid
+    gdf = gpd.GeoDataFrame({"name": list(polys)}, geometry=list(polys.values()), crs="EPSG:4326")
+    gdf.to_crs(crs).to_file(folder / "districts.gpkg", layer="districts", engine="pyogrio")
+    return folder / "districts.gpkg"
+
+
+def write_dem(folder):
+    # elevation rising 10 m per 0.1° row towards the north, on a finer grid than the climate
+    rows = np.arange(40)
+    dem = (1000.0 - 10.0 * rows[:, None] + 0.0 * np.arange(50)[None, :]).astype("float32")
+    with rasterio.open(folder / "dem.tif", "w", driver="GTiff", width=50, height=40, count=1,
+                       dtype="float32", crs="EPSG:4326", transform=from_origin(-2.0, 50.0, 0.1, 0.1)) as f:
+        f.write(dem, 1)
+    return folder / "dem.tif"
+
+
+def add(run_path, text):
+    run_path.write_text(run_path.read_text() + "\n" + text + "\n")
+
+
+def test_run_writes_regions_ranges_and_range_change(small_case):
+    d = small_case["dir"]
+    write_regions(d)
+    write_dem(d)
+    add(small_case["run"], '[regions]\npath = "districts.gpkg"\nfield = "name"\n'
+                           '[terrain]\nelevation = "dem.tif"\n'
+                           '[ranges]\ndispersal_km_per_year = 2.0\nband_deg = 2.0')
+    with pytest.warns(SuitmapWarning, match="away"):
+        manifest = run(small_case["run"])
+    root = manifest.parent
+    doc = json.loads(manifest.read_text())
+    listed = {e["path"]: e for e in doc["entries"]}
+    for name in ("regions.csv", "regions.gpkg", "ranges.csv",
+                 "warm_vs_baseline/range_change.tif", "warm_vs_baseline/relocation_candidates.tif"):
+        assert name in listed
+        assert hashlib.sha256((root / name).read_bytes()).hexdigest() == listed[name]["sha256"]
+    table = pd.read_csv(root / "regions.csv")
+    assert len(table) == 3 * 3  # regions × (2 periods + 1 comparison)
+    base = table[table["period"] == "baseline"].set_index("region")
+    with rasterio.open(root / "baseline" / "suitability.tif") as f:
+        suit = f.read(1, masked=True)
+        r, c = f.index(1.25, 47.25)
+    assert base.loc["tiny", "mean_suitability"] == pytest.approx(float(suit[r, c]), rel=1e-6)
+    assert base.loc["west", "covered_km2"] < 0.8 * base.loc["west", "area_km2"]  # one of 4 cells missing
+    assert base.loc["away", "covered_km2"] == 0 and np.isnan(base.loc["away", "mean_suitability"])
+    gpkg = gpd.read_file(root / "regions.gpkg")
+    assert gpkg.crs.to_epsg() == 3035 and len(gpkg) == 9  # the regions' own CRS
+    ranges = pd.read_csv(root / "ranges.csv")
+    assert set(ranges["band"]) == {"-2..0", "0..2", "2..4", "all"}
+    assert "elevation_shift_m" in ranges and "centroid_shift_km" in ranges
+    with rasterio.open(root / "warm_vs_baseline" / "range_change.tif") as f:
+        codes = f.read(1)
+        meanings = f.tags(1).get("flag_meanings", "")
+    with rasterio.open(root / "warm_vs_baseline" / "relocation_candidates.tif") as f:
+        cand = f.read(1)
+    assert "reachable_gain" in meanings
+    assert codes[0, 0] == 255 and cand[0, 0] == 255
+    np.testing.assert_array_equal(cand[codes != 255] == 1, codes[codes != 255] == 4)
+
+
+def test_summarize_from_finished_folder(small_case, capsys):
+    d = small_case["dir"]
+    regions = write_regions(d, crs="EPSG:4326")
+    manifest = run(small_case["run"])
+    root = manifest.parent
+    before = {p: p.stat().st_mtime_ns for p in root.rglob("*.tif")}
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", SuitmapWarning)
+        assert main(["summarize", str(small_case["run"]), "--regions", str(regions),
+                     "--field", "name"]) == 0
+    assert {p: p.stat().st_mtime_ns for p in root.rglob("*.tif")} == before  # nothing recomputed
+    table = pd.read_csv(root / "regions.csv")
+    assert set(table["region"]) == {"west", "tiny", "away"}
+    listed = {e["path"]: e for e in json.loads(manifest.read_text())["entries"]}
+    assert hashlib.sha256((root / "regions.csv").read_bytes()).hexdigest() == listed["regions.csv"]["sha256"]
+    # again: refused without --overwrite (one line, exit 2), accepted with it
+    assert main(["summarize", str(small_case["run"]), "--regions", str(regions), "--field", "name"]) == 2
+    assert "--overwrite" in capsys.readouterr().err
+    assert main(["summarize", str(small_case["run"]), "--regions", str(regions), "--field", "nope",
+                 "--overwrite"]) == 2
+    assert "no field 'nope'" in capsys.readouterr().err
+    # the same numbers as a run with [regions] (layers read back vs in memory)
+    add(small_case["run"], '[regions]\npath = "districts.gpkg"\nfield = "name"')
+    (root / "regions.csv").rename(d / "summarized.csv")
+    (root / "regions.gpkg").unlink()
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", SuitmapWarning)
+        run(small_case["run"], overwrite=True)
+    a = pd.read_csv(d / "summarized.csv").sort_values(["region", "period"]).reset_index(drop=True)
+    b = pd.read_csv(root / "regions.csv").sort_values(["region", "period"]).reset_index(drop=True)
+    pd.testing.assert_frame_equal(a[b.columns], b, rtol=1e-5)
+
+
+def test_bad_regions_stop_the_run_before_any_output(small_case):
+    write_regions(small_case["dir"])
+    add(small_case["run"], '[regions]\npath = "districts.gpkg"\nfield = "district"')
+    with pytest.raises(InputError, match="no field 'district'"):
+        run(small_case["run"])
+    assert not (small_case["dir"] / "results").exists()
+
+
+@pytest.mark.parametrize("text, match", [
+    ('[regions]\npath = "d.gpkg"', "needs field"),
+    ('[regions]\npath = "d.gpkg"\nfield = "n"\nsize = 3', "unknown key regions.size"),
+    ('[ranges]\ndispersal_km_per_year = -1', "ranges.dispersal_km_per_year"),
+    ('[ranges]\nband_deg = 0', "ranges.band_deg"),
+    ('[terrain]\nelevation = 5', "terrain.elevation"),
+])
+def test_run_file_keys_are_checked(small_case, text, match):
+    add(small_case["run"], text)
+    with pytest.raises(RunFileError, match=match):
+        load_run(small_case["run"])
+
+
+def test_geography_keys_are_read(small_case):
+    add(small_case["run"], '[regions]\npath = "d.gpkg"\nfield = "n"\nlayer = "l"\n'
+                           '[ranges]\ndispersal_km_per_year = 0')
+    geo = load_run(small_case["run"]).geography
+    assert geo.regions_path == small_case["dir"] / "d.gpkg" and geo.regions_layer == "l"
+    assert geo.ranges and geo.dispersal_km_per_year == 0.0 and geo.elevation is None
