@@ -16,6 +16,7 @@ import numpy as np
 import pytest
 import rioxarray  # noqa: F401
 import shapely
+import shapely.affinity
 import xarray as xr
 from pyproj import Geod, Transformer
 from shapely.geometry import Polygon, box
@@ -165,3 +166,24 @@ def test_read_regions_merges_names_and_names_bad_input(tmp_path):
     (tmp_path / "bad.geojson").write_text("not json")
     with pytest.raises(InputError, match="bad.geojson"):
         read_regions(tmp_path / "bad.geojson", "district")
+
+
+def test_south_up_grid_and_0_360_longitudes_give_the_same_rows():
+    ds = layers()
+    polys = {"a": Polygon([(10.13, 50.97), (10.87, 50.91), (10.95, 50.52), (10.2, 50.44)]),
+             "b": box(10.52, 50.62, 10.55, 50.64)}
+    ref = summarize_group(ds, region_weights(regions_gdf(polys), ds), reference="suitability",
+                          level=0.5)[0]
+    south_up = ds.isel(y=slice(None, None, -1))
+    got = summarize_group(south_up, region_weights(regions_gdf(polys), south_up),
+                          reference="suitability", level=0.5)[0]
+    for g, r in zip(got, ref):
+        assert g == pytest.approx(r, rel=1e-12)
+    # a 0…360 grid at 190…191.2°E, regions given in −180…180 (−170…−168.8)
+    shifted = ds.assign_coords(x=ds["x"] + 180.0).rio.write_crs("EPSG:4326")
+    west = {k: shapely.affinity.translate(g, xoff=-180.0) for k, g in polys.items()}
+    got = summarize_group(shifted, region_weights(regions_gdf(west), shifted),
+                          reference="suitability", level=0.5)[0]
+    for g, r in zip(got, ref):
+        assert g["mean_degree_days"] == pytest.approx(r["mean_degree_days"], rel=1e-9)
+        assert g["covered_km2"] == pytest.approx(r["covered_km2"], rel=1e-9)

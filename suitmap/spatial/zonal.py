@@ -120,7 +120,6 @@ def region_weights(regions, grid) -> RegionWeights:
         Regular grid with ``x``/``y`` coordinates and a CRS.
     """
     from exactextract import exact_extract
-    from exactextract.raster import NumPyRasterSource
 
     crs = grid_crs(grid)
     rcrs = CRS.from_user_input(regions.crs)
@@ -128,14 +127,9 @@ def region_weights(regions, grid) -> RegionWeights:
     geoms = _densified(regions).to_crs(crs.to_wkt())
     ny, nx = grid.sizes["y"], grid.sizes["x"]
     xe, ye = cell_edges(grid["x"].values), cell_edges(grid["y"].values)
-    index = np.arange(ny * nx, dtype=np.float64).reshape(ny, nx)
-    if ye[0] < ye[-1]:  # exactextract wants the northern row first
-        index = index[::-1]
-    if xe[0] > xe[-1]:
-        index = index[:, ::-1]
-    src = NumPyRasterSource(index, float(min(xe[0], xe[-1])), float(min(ye[0], ye[-1])),
-                            float(max(xe[0], xe[-1])), float(max(ye[0], ye[-1])),
-                            srs_wkt=crs.to_wkt())
+    src = _index_source(ny, nx, xe, ye, crs.to_wkt())
+    if crs.is_geographic:
+        geoms = _wrapped(geoms, float(min(xe[0], xe[-1])), float(max(xe[0], xe[-1])))
     import geopandas as gpd
 
     vec = gpd.GeoDataFrame({"region": list(regions["region"])}, geometry=geoms.values, crs=crs.to_wkt())
@@ -152,6 +146,60 @@ def region_weights(regions, grid) -> RegionWeights:
         cells.append(idx[keep])
         weights.append(frac[keep] * cell_area[idx[keep]])
     return RegionWeights(list(table["region"]), cells, weights, areas, (ny, nx))
+
+
+def _wrapped(geoms, west: float, east: float):
+    """Regions given in −180…180 on a 0…360 grid (or the reverse): add copies 360° away
+    and keep what lies within the grid's longitudes."""
+    from shapely import affinity
+    from shapely.geometry import box
+
+    frame = box(west, -90.0, east, 90.0)
+    out = []
+    for g in geoms:
+        if g.bounds[0] >= west and g.bounds[2] <= east:
+            out.append(g)
+            continue
+        parts = [affinity.translate(g, xoff=k) for k in (-360.0, 0.0, 360.0)]
+        inside = [p.intersection(frame) for p in parts]
+        inside = [p for p in inside if not p.is_empty]
+        out.append(inside[0].union_all(inside[1:]) if len(inside) > 1 else (inside[0] if inside else g))
+    return type(geoms)(out, crs=geoms.crs)
+
+
+def _index_source(ny: int, nx: int, xe: np.ndarray, ye: np.ndarray, wkt: str):
+    """An exactextract raster whose values are the flat (y, x) index of each cell.
+
+    Windows are computed on request, so no grid-sized array is held in memory.
+    exactextract reads rows north first and columns west first.
+    """
+    from exactextract.raster import RasterSource
+
+    flip_y, flip_x = ye[0] < ye[-1], xe[0] > xe[-1]
+    ext = (float(min(xe[0], xe[-1])), float(min(ye[0], ye[-1])),
+           float(max(xe[0], xe[-1])), float(max(ye[0], ye[-1])))
+
+    class IndexSource(RasterSource):
+        def res(self):
+            return (ext[2] - ext[0]) / nx, (ext[3] - ext[1]) / ny
+
+        def extent(self):
+            return ext
+
+        def srs_wkt(self):
+            return wkt
+
+        def nodata_value(self):
+            return None
+
+        def read_window(self, x0, y0, wnx, wny):
+            rows = np.arange(y0, y0 + wny)
+            cols = np.arange(x0, x0 + wnx)
+            rows = ny - 1 - rows if flip_y else rows
+            cols = nx - 1 - cols if flip_x else cols
+            return (rows[:, None] * nx + cols[None, :]).astype(np.float64)
+
+    return IndexSource()
 
 
 def _class_codes(da: xr.DataArray) -> list[tuple[int, str]] | None:
