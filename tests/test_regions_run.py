@@ -70,6 +70,15 @@ def test_run_writes_regions_ranges_and_range_change(small_case):
     assert base.loc["tiny", "mean_suitability"] == pytest.approx(float(suit[r, c]), rel=1e-6)
     assert base.loc["west", "covered_km2"] < 0.8 * base.loc["west", "area_km2"]  # one of 4 cells missing
     assert base.loc["away", "covered_km2"] == 0 and np.isnan(base.loc["away", "mean_suitability"])
+    # the DEM falls 10 m per 0.1° row southwards from 1000 m at 50°N: bilinear resampling
+    # reproduces a linear field, so the cell centred at 47.5°N (DEM row 24.5) lies at 755 m
+    assert base.loc["tiny", "suitable_area_km2"] > 0
+    assert base.loc["tiny", "suitable_elevation_low_m"] == pytest.approx(755.0, abs=1e-6)
+    assert base.loc["tiny", "suitable_elevation_high_m"] == pytest.approx(755.0, abs=1e-6)
+    comp = table[table["kind"] == "comparison"].set_index("region")
+    warm = table[table["period"] == "warm"].set_index("region")
+    mid = lambda t, r: (t.loc[r, "suitable_elevation_low_m"] + t.loc[r, "suitable_elevation_high_m"]) / 2
+    assert comp.loc["west", "suitable_elevation_shift_m"] == pytest.approx(mid(warm, "west") - mid(base, "west"))
     gpkg = gpd.read_file(root / "regions.gpkg")
     assert gpkg.crs.to_epsg() == 3035 and len(gpkg) == 9  # the regions' own CRS
     ranges = pd.read_csv(root / "ranges.csv")
@@ -124,6 +133,18 @@ def test_bad_regions_stop_the_run_before_any_output(small_case):
     with pytest.raises(InputError, match="no field 'district'"):
         run(small_case["run"])
     assert not (small_case["dir"] / "results").exists()
+
+
+def test_implausible_elevation_is_refused_before_any_output(small_case, capsys):
+    dem = write_dem(small_case["dir"])
+    with rasterio.open(dem, "r+") as f:
+        f.write(f.read(1) * 100.0, 1)  # centimetres, not metres
+    add(small_case["run"], '[terrain]\nelevation = "dem.tif"\n[ranges]')
+    assert main(["run", str(small_case["run"])]) == 2
+    err = capsys.readouterr().err
+    assert "terrain.elevation" in err and "metres" in err and "Traceback" not in err
+    assert not (small_case["dir"] / "results").exists()
+    assert main(["check", str(small_case["run"])]) == 2
 
 
 @pytest.mark.parametrize("text, match", [

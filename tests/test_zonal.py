@@ -23,7 +23,7 @@ from shapely.geometry import Polygon, box
 
 from suitmap.errors import InputError, SuitmapWarning
 from suitmap.pipeline.regions import region_table
-from suitmap.spatial.zonal import read_regions, region_weights, summarize_group
+from suitmap.spatial.zonal import read_regions, region_weights, summarize_group, weighted_percentiles
 
 RES = 0.1
 WEST, NORTH, NY, NX = 10.0, 51.0, 10, 12
@@ -187,3 +187,15 @@ def test_south_up_grid_and_0_360_longitudes_give_the_same_rows():
     for g, r in zip(got, ref):
         assert g["mean_degree_days"] == pytest.approx(r["mean_degree_days"], rel=1e-9)
         assert g["covered_km2"] == pytest.approx(r["covered_km2"], rel=1e-9)
+
+
+def test_weighted_percentiles():
+    rng = np.random.default_rng(1)
+    v = rng.normal(500, 100, 37)
+    # equal weights: the mid-point rule is the Hazen plotting position (Hyndman & Fan 1996,
+    # definition 5), numpy's method="hazen"
+    for q in (5, 25, 50, 95):
+        assert weighted_percentiles(v, np.ones_like(v), q) == pytest.approx(
+            np.percentile(v, q, method="hazen"))
+    # weights 1 and 3 on 0 and 10: centres at 0.5 and 2.5 of 4, so the median is 7.5 (by hand)
+    assert weighted_percentiles(np.array([10.0, 0.0]), np.array([3.0, 1.0]), 50) == pytest.approx(7.5)

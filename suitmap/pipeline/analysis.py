@@ -169,6 +169,9 @@ def check_run(run: RunFile | str | Path) -> tuple[RunFile, Profile, list[PeriodC
     """
     run = _as_run(run)
     profile = effective_profile(run)
+    from suitmap.pipeline.regions import check_geography
+
+    check_geography(run)  # [regions] and [terrain] files
     opened = []
     for period in run.periods:
         pc = open_period(period, profile, chunk_cells=run.chunk_cells, qa=True)

@@ -45,26 +45,14 @@ def _suitable01(da: xr.DataArray, level: float) -> xr.DataArray:
 
 # --------------------------------------------------------------------------- layers
 def check_geography(run: RunFile) -> None:
-    """Read the regions file and the elevation raster's header before any work (bad input early)."""
+    """Read the regions file and the elevation raster before any work (bad input early)."""
     geo = run.geography
     if geo is None:
         return
     if geo.regions_path is not None:
         read_regions(geo.regions_path, geo.regions_field, geo.regions_layer)
     if geo.elevation is not None:
-        import rasterio
-
-        if not Path(geo.elevation).is_file():
-            raise InputError(f"terrain.elevation: {geo.elevation} does not exist; "
-                             "give an elevation GeoTIFF (m)")
-        try:
-            with rasterio.open(geo.elevation) as src:
-                if src.crs is None:
-                    raise InputError(f"terrain.elevation: {geo.elevation} has no CRS; define one "
-                                     "(gdal_edit.py -a_srs)")
-        except rasterio.errors.RasterioIOError as exc:
-            raise InputError(f"terrain.elevation: {geo.elevation} cannot be read as a raster: "
-                             f"{str(exc).splitlines()[0]}") from None
+        _read_dem(geo.elevation)
 
 
 def add_range_layers(layers):
@@ -99,19 +87,20 @@ def add_range_layers(layers):
     return replace(layers, comparisons=comps)
 
 
-def elevation_on_grid(path: Path, template: xr.Dataset) -> xr.DataArray:
-    """An elevation raster (m), resampled bilinearly onto the template grid."""
+def _read_dem(path: Path) -> xr.DataArray:
     import rioxarray
-
-    from suitmap.spatial.regrid import snap_to_grid
 
     if not Path(path).is_file():
         raise InputError(f"terrain.elevation: {path} does not exist; give an elevation GeoTIFF (m)")
     try:
-        dem = rioxarray.open_rasterio(path, masked=True).squeeze("band", drop=True)
+        dem = rioxarray.open_rasterio(path, masked=True)
     except Exception as exc:  # noqa: BLE001 - GDAL's own message names the problem
         raise InputError(f"terrain.elevation: {path} cannot be read as a raster: "
                          f"{str(exc).splitlines()[0]}") from None
+    if dem.sizes.get("band", 1) != 1:
+        raise InputError(f"terrain.elevation: {path} has {dem.sizes['band']} bands; give one band "
+                         "of elevation (m)")
+    dem = dem.squeeze("band", drop=True) if "band" in dem.dims else dem
     if dem.rio.crs is None:
         raise InputError(f"terrain.elevation: {path} has no CRS; define one (gdal_edit.py -a_srs)")
     dem = dem.astype("float64").load()
@@ -119,7 +108,14 @@ def elevation_on_grid(path: Path, template: xr.Dataset) -> xr.DataArray:
     if not (ELEVATION_RANGE[0] <= lo and hi <= ELEVATION_RANGE[1]):
         raise InputError(f"terrain.elevation: {path} holds {lo:g}…{hi:g}, outside "
                          f"{ELEVATION_RANGE[0]:g}…{ELEVATION_RANGE[1]:g} m; give elevation in metres")
-    return snap_to_grid(dem, template, kind="continuous")
+    return dem
+
+
+def elevation_on_grid(path: Path, template: xr.Dataset) -> xr.DataArray:
+    """An elevation raster (m), resampled bilinearly onto the template grid."""
+    from suitmap.spatial.regrid import snap_to_grid
+
+    return snap_to_grid(_read_dem(path), template, kind="continuous")
 
 
 # --------------------------------------------------------------------------- tables
@@ -129,18 +125,38 @@ def _groups(layers) -> list[tuple[str, str, xr.Dataset]]:
             + [("ensemble", n, d) for n, d in layers.ensembles.items()])
 
 
-def region_table(groups, regions, level: float):
-    """regions.csv as a DataFrame: one row per region × group (see :mod:`suitmap.spatial.zonal`)."""
+def region_table(groups, regions, level: float, elevation: xr.DataArray | None = None):
+    """regions.csv as a DataFrame: one row per region × group (see :mod:`suitmap.spatial.zonal`).
+
+    With ``elevation`` (on the groups' grid), period and ensemble rows get the
+    suitable part's elevation band, and comparison rows its shift
+    (``suitable_elevation_shift_m``, scenario minus baseline band midpoint).
+    """
     import pandas as pd
 
     rows, empty, weights = [], set(), None
+    elev = None if elevation is None else np.asarray(elevation.transpose("y", "x").values,
+                                                     dtype=np.float64).ravel()
+    pairs = {}
     for kind, name, ds in groups:
         if weights is None:
             weights = region_weights(regions, ds)
-        got, none = summarize_group(ds, weights, reference=REFERENCE.get(kind), level=level)
+        got, none = summarize_group(ds, weights, reference=REFERENCE.get(kind), level=level,
+                                    elevation=elev if kind in REFERENCE else None)
         empty.update(none)
+        if kind == "comparison":
+            pairs[name] = (ds.attrs.get("baseline"), ds.attrs.get("scenario"))
         for r in got:
             rows.append({"region": r.pop("region"), "period": name, "kind": kind, **r})
+    if elev is not None:
+        mid = {(r["region"], r["period"]): (r["suitable_elevation_low_m"]
+                                            + r["suitable_elevation_high_m"]) / 2
+               for r in rows if "suitable_elevation_low_m" in r}
+        for r in rows:
+            if r["kind"] == "comparison" and r["period"] in pairs:
+                b, s = pairs[r["period"]]
+                r["suitable_elevation_shift_m"] = (mid.get((r["region"], s), np.nan)
+                                                   - mid.get((r["region"], b), np.nan))
     if empty:
         warnings.warn(f"regions {', '.join(sorted(empty))} lie outside the grid or on missing cells "
                       "only; their values are left empty", SuitmapWarning, stacklevel=2)
@@ -187,17 +203,17 @@ def write_region_outputs(layers, root: Path, manifest) -> list[Path]:
     written = []
     if geo is None:
         return written
+    base = layers.periods[run.baseline.name]
+    elev = elevation_on_grid(geo.elevation, base) if geo.elevation is not None else None
     if geo.regions_path is not None:
         regions = read_regions(geo.regions_path, geo.regions_field, geo.regions_layer)
-        table = region_table(_groups(layers), regions, run.output.suitable_level)
+        table = region_table(_groups(layers), regions, run.output.suitable_level, elev)
         p = _write_csv(table, root / "regions.csv")
         manifest.add(p, layer="regions", period_or_comparison="all", format="csv")
         g = _write_gpkg(table, regions, root / "regions.gpkg")
         manifest.add(g, layer="regions", period_or_comparison="all", format="gpkg")
         written += [p, g]
-    if geo is not None and geo.ranges and run.scenarios:
-        base = layers.periods[run.baseline.name]
-        elev = elevation_on_grid(geo.elevation, base) if geo.elevation is not None else None
+    if geo.ranges and run.scenarios:
         p = _write_csv(range_table(run, layers.periods, elev), root / "ranges.csv")
         manifest.add(p, layer="ranges", period_or_comparison="all", format="csv")
         written.append(p)
@@ -263,7 +279,10 @@ def summarize(runfile, regions: str | Path, field: str, *, layer: str | None = N
             groups.append((kind, g, ds))
     if not groups:
         raise OutputError(f"{root}: the manifest lists no GeoTIFF or NetCDF layers to summarize")
-    table = region_table(groups, read_regions(regions, field, layer), run.output.suitable_level)
+    geo = run.geography
+    elev = (elevation_on_grid(geo.elevation, groups[0][2])
+            if geo is not None and geo.elevation is not None else None)
+    table = region_table(groups, read_regions(regions, field, layer), run.output.suitable_level, elev)
     with OutputFolder(root, run.path, overwrite=False):
         csv = _write_csv(table, root / "regions.csv")
         _write_gpkg(table, read_regions(regions, field, layer), root / "regions.gpkg")

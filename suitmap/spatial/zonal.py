@@ -20,7 +20,10 @@ Summary per region and layer group (a period, a comparison, ...):
   is at or above the level, and that area over ``covered_km2``;
 * ``mean_<layer>``: weighted mean of every numeric layer over its valid cells;
 * ``<layer>_<class>_km2``: area of each class of a class layer (CF ``flag_values``
-  and ``flag_meanings``).
+  and ``flag_meanings``);
+* with an elevation field, ``suitable_elevation_low_m`` / ``_high_m``: the
+  weighted 5th and 95th percentiles of the suitable part's elevation
+  (percentile of the weights' cumulative distribution, mid-point rule).
 
 A region outside the grid, or lying wholly on missing cells, gets
 ``covered_km2 = 0`` and empty (NaN) values, never zeros, and a warning.
@@ -44,7 +47,8 @@ from pyproj import CRS
 from suitmap.errors import InputError, SuitmapWarning
 from suitmap.spatial.areas import cell_areas_km2, cell_edges, grid_crs, polygon_area_km2
 
-__all__ = ["RegionWeights", "read_regions", "region_weights", "summarize_group"]
+__all__ = ["RegionWeights", "read_regions", "region_weights", "summarize_group",
+           "weighted_percentiles"]
 
 #: Region edges are densified to this many segments across the regions' extent before reprojection.
 DENSIFY_SEGMENTS = 400
@@ -209,13 +213,30 @@ def _class_codes(da: xr.DataArray) -> list[tuple[int, str]] | None:
     return list(zip(np.atleast_1d(values).tolist(), str(meanings).split()))
 
 
+def weighted_percentiles(values: np.ndarray, weights: np.ndarray, q) -> np.ndarray:
+    """Percentiles ``q`` (0–100) of ``values`` weighted by ``weights`` (mid-point rule).
+
+    Each value stands for its weight's share of the cumulative distribution,
+    centred on the middle of that share; between centres the percentile is
+    linear, beyond them it is the smallest or largest value (common practice,
+    no source: with equal weights this is the Hazen plotting position).
+    """
+    order = np.argsort(values)
+    v, w = values[order], weights[order]
+    cw = np.cumsum(w) - w / 2
+    return np.interp(np.asarray(q, dtype=float) / 100 * w.sum(), cw, v)
+
+
 def summarize_group(ds: xr.Dataset, weights: RegionWeights, *, reference: str | None = None,
-                    level: float | None = None) -> tuple[list[dict], list[str]]:
+                    level: float | None = None,
+                    elevation: np.ndarray | None = None) -> tuple[list[dict], list[str]]:
     """One row (a dict) per region of the layers in ``ds`` (same grid as ``weights``).
 
     ``reference``: the layer whose valid cells define ``covered_km2`` and which,
     with ``level``, defines the suitable area (``None``: the first numeric layer,
-    and no suitable area).  Returns the rows and the names of regions without data.
+    and no suitable area).  ``elevation``: flat (y, x) elevations (m) for the
+    suitable part's elevation band.  Returns the rows and the names of regions
+    without data.
     """
     numeric, classes = {}, {}
     for name, da in ds.data_vars.items():
@@ -238,13 +259,22 @@ def summarize_group(ds: xr.Dataset, weights: RegionWeights, *, reference: str | 
         row["covered_km2"] = covered
         if covered <= 0:
             empty.append(name)
+        band = (np.nan, np.nan)
         if level is not None and covered > 0:
-            suit = float(w[ok & (numeric[reference][idx] >= level)].sum())
+            is_suit = ok & (numeric[reference][idx] >= level)
+            suit = float(w[is_suit].sum())
             row["suitable_area_km2"] = suit
             row["suitable_share"] = suit / covered
+            if elevation is not None:
+                e = elevation[idx]
+                sel = is_suit & np.isfinite(e)
+                if sel.any():
+                    band = tuple(weighted_percentiles(e[sel], w[sel], [5.0, 95.0]))
         else:
             row["suitable_area_km2"] = np.nan
             row["suitable_share"] = np.nan
+        if elevation is not None:
+            row["suitable_elevation_low_m"], row["suitable_elevation_high_m"] = map(float, band)
         for lname, v in numeric.items():
             vals = v[idx]
             good = np.isfinite(vals)
