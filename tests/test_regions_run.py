@@ -58,7 +58,8 @@ def test_run_writes_regions_ranges_and_range_change(small_case):
     doc = json.loads(manifest.read_text())
     listed = {e["path"]: e for e in doc["entries"]}
     for name in ("regions.csv", "regions.gpkg", "ranges.csv",
-                 "warm_vs_baseline/range_change.tif", "warm_vs_baseline/relocation_candidates.tif"):
+                 "warm_vs_baseline/range_change.tif", "warm_vs_baseline/relocation_candidates.tif",
+                 "warm_vs_baseline/region_change.png", "warm_vs_baseline/range_edges.png"):
         assert name in listed
         assert hashlib.sha256((root / name).read_bytes()).hexdigest() == listed[name]["sha256"]
     table = pd.read_csv(root / "regions.csv")
@@ -105,6 +106,7 @@ def test_summarize_from_finished_folder(small_case, capsys):
         assert main(["summarize", str(small_case["run"]), "--regions", str(regions),
                      "--field", "name"]) == 0
     assert {p: p.stat().st_mtime_ns for p in root.rglob("*.tif")} == before  # nothing recomputed
+    assert (root / "warm_vs_baseline" / "region_change.png").read_bytes()[:4] == b"\x89PNG"
     table = pd.read_csv(root / "regions.csv")
     assert set(table["region"]) == {"west", "tiny", "away"}
     listed = {e["path"]: e for e in json.loads(manifest.read_text())["entries"]}

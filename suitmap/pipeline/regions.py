@@ -196,6 +196,43 @@ def _write_gpkg(df, regions, path: Path) -> Path:
     return path
 
 
+def _region_change_figures(table, root: Path) -> list[tuple[Path, str]]:
+    """One bar chart per comparison: suitable area gained and lost by region."""
+    from suitmap.writers.region_figures import plot_region_change
+
+    gain, loss = "change_class_becomes_suitable_km2", "change_class_becomes_unsuitable_km2"
+    out = []
+    if gain not in table or loss not in table:
+        return out
+    for comp, rows in table[table["kind"] == "comparison"].groupby("period", sort=False):
+        (root / comp).mkdir(exist_ok=True)
+        p = plot_region_change(list(rows["region"]), rows[gain], rows[loss],
+                               root / comp / "region_change.png",
+                               title=f"suitable area gained and lost by region\n{comp}")
+        out.append((p, comp))
+    return out
+
+
+def _range_figures(run: RunFile, periods, table, root: Path) -> list[tuple[Path, str]]:
+    """One map per comparison: both periods' suitable cells, edges and centroids."""
+    from suitmap.writers.region_figures import plot_range_edges
+
+    level = run.output.suitable_level
+    lon, lat, _ = cell_lonlat(periods[run.baseline.name])
+    out = []
+    for scen in run.scenarios:
+        comp = f"{scen.name}_vs_{run.baseline.name}"
+        suit = [periods[n]["suitability"] for n in (run.baseline.name, scen.name)]
+        (root / comp).mkdir(exist_ok=True)
+        p = plot_range_edges(lon, lat, *[(d >= level).values & d.notnull().values for d in suit],
+                             table[table["comparison"] == comp].to_dict("records"),
+                             root / comp / "range_edges.png", labels=(run.baseline.name, scen.name),
+                             title=f"range edges (per {run.geography.band_deg:g}° of longitude) and "
+                                   f"centroids\n{comp}")
+        out.append((p, comp))
+    return out
+
+
 def write_region_outputs(layers, root: Path, manifest) -> list[Path]:
     """Write the regional and range tables of computed layers into ``root`` and list them."""
     run = layers.run
@@ -213,10 +250,19 @@ def write_region_outputs(layers, root: Path, manifest) -> list[Path]:
         g = _write_gpkg(table, regions, root / "regions.gpkg")
         manifest.add(g, layer="regions", period_or_comparison="all", format="gpkg")
         written += [p, g]
+        if "png" in run.output.formats:
+            for f, comp in _region_change_figures(table, root):
+                manifest.add(f, layer="region_change", period_or_comparison=comp, format="png")
+                written.append(f)
     if geo.ranges and run.scenarios:
-        p = _write_csv(range_table(run, layers.periods, elev), root / "ranges.csv")
+        ranges = range_table(run, layers.periods, elev)
+        p = _write_csv(ranges, root / "ranges.csv")
         manifest.add(p, layer="ranges", period_or_comparison="all", format="csv")
         written.append(p)
+        if "png" in run.output.formats:
+            for f, comp in _range_figures(run, layers.periods, ranges, root):
+                manifest.add(f, layer="range_edges", period_or_comparison=comp, format="png")
+                written.append(f)
     return written
 
 
@@ -286,11 +332,15 @@ def summarize(runfile, regions: str | Path, field: str, *, layer: str | None = N
     with OutputFolder(root, run.path, overwrite=False):
         csv = _write_csv(table, root / "regions.csv")
         _write_gpkg(table, read_regions(regions, field, layer), root / "regions.gpkg")
+        new = [(root / "regions.csv", "regions", "all", "csv"),
+               (root / "regions.gpkg", "regions", "all", "gpkg")]
+        if "png" in run.output.formats:
+            new += [(f, "region_change", comp, "png") for f, comp in _region_change_figures(table, root)]
         entries = {e["path"]: e for e in doc.get("entries", [])}
-        for name, fmt in (("regions.csv", "csv"), ("regions.gpkg", "gpkg")):
-            p = root / name
-            entries[name] = {"path": name, "layer": "regions", "period_or_comparison": "all",
-                             "format": fmt, "sha256": sha256_file(p), "bytes": p.stat().st_size}
+        for p, lname, group, fmt in new:
+            rel = p.relative_to(root).as_posix()
+            entries[rel] = {"path": rel, "layer": lname, "period_or_comparison": group,
+                            "format": fmt, "sha256": sha256_file(p), "bytes": p.stat().st_size}
         doc["entries"] = [entries[k] for k in sorted(entries)]
         atomic_write_text(mpath, json.dumps(doc, indent=2, ensure_ascii=False, default=str) + "\n")
     return csv
