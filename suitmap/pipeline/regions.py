@@ -31,6 +31,8 @@ from suitmap.writers.atomic import atomic_path, atomic_write_text, sha256_file
 
 #: Layer whose level defines the suitable area, per kind of layer group.
 REFERENCE = {"period": "suitability", "ensemble": "ensemble_median_suitability"}
+#: Timestamp written into regions.gpkg (GeoPackage stores one; a fixed one keeps reruns identical).
+GPKG_DATE = "2000-01-01T00:00:00Z"
 #: Elevations outside this range (m) are not plausible on land.
 ELEVATION_RANGE = (-500.0, 9000.0)
 
@@ -189,10 +191,18 @@ def _write_csv(df, path: Path) -> Path:
 
 
 def _write_gpkg(df, regions, path: Path) -> Path:
+    import pyogrio
+
     gdf = regions.merge(df, on="region", how="inner")
-    with atomic_path(path) as tmp:
-        tmp.unlink()
-        gdf.to_file(tmp, driver="GPKG", layer="regions", engine="pyogrio")
+    # a fixed timestamp in gpkg_contents: a rerun gives a byte-identical file (resume promise)
+    before = pyogrio.get_gdal_config_option("OGR_CURRENT_DATE")
+    pyogrio.set_gdal_config_options({"OGR_CURRENT_DATE": GPKG_DATE})
+    try:
+        with atomic_path(path) as tmp:
+            tmp.unlink()
+            gdf.to_file(tmp, driver="GPKG", layer="regions", engine="pyogrio")
+    finally:
+        pyogrio.set_gdal_config_options({"OGR_CURRENT_DATE": before})
     return path
 
 
