@@ -168,3 +168,27 @@ def test_geography_keys_are_read(small_case):
     geo = load_run(small_case["run"]).geography
     assert geo.regions_path == small_case["dir"] / "d.gpkg" and geo.regions_layer == "l"
     assert geo.ranges and geo.dispersal_km_per_year == 0.0 and geo.elevation is None
+
+
+def test_summarize_reads_geotiffs_when_there_is_no_netcdf(small_case):
+    d = small_case["dir"]
+    regions = write_regions(d, crs="EPSG:4326")
+    text = small_case["run"].read_text().replace('formats = ["geotiff", "netcdf", "png"]',
+                                                 'formats = ["geotiff"]')
+    assert text != small_case["run"].read_text()
+    small_case["run"].write_text(text)
+    add(small_case["run"], '[regions]\npath = "districts.gpkg"\nfield = "name"')
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", SuitmapWarning)
+        manifest = run(small_case["run"])
+        root = manifest.parent
+        in_memory = pd.read_csv(root / "regions.csv")
+        assert not [p for p in root.rglob("*.nc") if ".suitmap" not in p.parts]
+        assert main(["summarize", str(small_case["run"]), "--regions", str(regions),
+                     "--field", "name", "--overwrite"]) == 0
+    read_back = pd.read_csv(root / "regions.csv")
+    key = ["region", "period"]
+    a = in_memory.sort_values(key).reset_index(drop=True)
+    b = read_back.sort_values(key).reset_index(drop=True)
+    assert set(a.columns) == set(b.columns)
+    pd.testing.assert_frame_equal(a, b[a.columns], rtol=1e-5)
