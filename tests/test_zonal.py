@@ -199,3 +199,29 @@ def test_weighted_percentiles():
             np.percentile(v, q, method="hazen"))
     # weights 1 and 3 on 0 and 10: centres at 0.5 and 2.5 of 4, so the median is 7.5 (by hand)
     assert weighted_percentiles(np.array([10.0, 0.0]), np.array([3.0, 1.0]), 50) == pytest.approx(7.5)
+
+
+def test_projected_grid_with_lonlat_region():
+    # a 1 km grid in EPSG:3035 (equal-area, so planar cell areas are true: 1 km² each)
+    x = 4_300_000 + (np.arange(30) + 0.5) * 1000.0
+    y = 2_900_000 + (np.arange(25)[::-1] + 0.5) * 1000.0
+    v = np.add.outer(np.arange(25.0), 2 * np.arange(30.0))
+    ds = xr.Dataset({"degree_days": (("y", "x"), v)}, coords={"y": y, "x": x}).rio.write_crs("EPSG:3035")
+    to_ll = Transformer.from_crs("EPSG:3035", "EPSG:4326", always_xy=True)
+    lo0, la0 = to_ll.transform(4_305_300, 2_904_700)
+    lo1, la1 = to_ll.transform(4_322_900, 2_917_100)
+    poly_ll = box(lo0, la0, lo1, la1)
+    row = summarize_group(ds, region_weights(regions_gdf({"r": poly_ll}), ds))[0][0]
+    # independent: the lon/lat box, densified and projected, intersected with each 1 km cell
+    to_laea = Transformer.from_crs("EPSG:4326", "EPSG:3035", always_xy=True)
+    poly = shapely.transform(shapely.segmentize(poly_ll, 1e-4), lambda a, b: to_laea.transform(a, b),
+                             interleaved=False)
+    num = den = 0.0
+    for j, yc in enumerate(y):
+        for i, xc in enumerate(x):
+            f = box(xc - 500, yc - 500, xc + 500, yc + 500).intersection(poly).area / 1e6
+            num += f * v[j, i]
+            den += f
+    assert row["mean_degree_days"] == pytest.approx(num / den, rel=1e-6)
+    assert row["covered_km2"] == pytest.approx(den, rel=1e-6)
+    assert row["area_km2"] == pytest.approx(poly.area / 1e6, rel=1e-4)

@@ -137,10 +137,7 @@ def region_weights(regions, grid) -> RegionWeights:
     import geopandas as gpd
 
     vec = gpd.GeoDataFrame({"region": list(regions["region"])}, geometry=geoms.values, crs=crs.to_wkt())
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore", RuntimeWarning)
-        table = exact_extract(src, vec, ["values", "coverage"], include_cols=["region"],
-                              output="pandas")
+    table = exact_extract(src, vec, ["values", "coverage"], include_cols=["region"], output="pandas")
     cell_area = cell_areas_km2(grid).values.ravel()
     cells, weights = [], []
     for vals, cov in zip(table["values"], table["coverage"]):
