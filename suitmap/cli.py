@@ -166,9 +166,10 @@ def build_parser() -> argparse.ArgumentParser:
     p = sub.add_parser("summarize", parents=[common],
                        help="summarize a finished run's layers by region (km², means), recomputing nothing")
     p.add_argument("runfile", help="run file (TOML) whose output folder to summarize")
-    p.add_argument("--regions", required=True, metavar="FILE",
-                   help="vector file of the regions (GeoPackage, shapefile, GeoJSON, ...)")
-    p.add_argument("--field", required=True, metavar="NAME", help="the column naming each region")
+    p.add_argument("--regions", default=None, metavar="FILE",
+                   help="vector file of the regions (GeoPackage, shapefile, GeoJSON, ...; "
+                        "default: the run file's [regions])")
+    p.add_argument("--field", default=None, metavar="NAME", help="the column naming each region")
     p.add_argument("--layer", default=None, help="layer of a multi-layer vector file")
     p.add_argument("--overwrite", action="store_true", help="replace existing regions.csv/.gpkg")
     p.set_defaults(func=_cmd_summarize)

@@ -117,6 +117,8 @@ def test_summarize_from_finished_folder(small_case, capsys):
     assert main(["summarize", str(small_case["run"]), "--regions", str(regions), "--field", "nope",
                  "--overwrite"]) == 2
     assert "no field 'nope'" in capsys.readouterr().err
+    assert main(["summarize", str(small_case["run"]), "--overwrite"]) == 2  # no [regions] either
+    assert "--regions FILE" in capsys.readouterr().err
     # the same numbers as a run with [regions] (layers read back vs in memory)
     add(small_case["run"], '[regions]\npath = "districts.gpkg"\nfield = "name"')
     (root / "regions.csv").rename(d / "summarized.csv")
@@ -127,6 +129,12 @@ def test_summarize_from_finished_folder(small_case, capsys):
     a = pd.read_csv(d / "summarized.csv").sort_values(["region", "period"]).reset_index(drop=True)
     b = pd.read_csv(root / "regions.csv").sort_values(["region", "period"]).reset_index(drop=True)
     pd.testing.assert_frame_equal(a[b.columns], b, rtol=1e-5)
+    # without --regions, summarize takes the run file's [regions]
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", SuitmapWarning)
+        assert main(["summarize", str(small_case["run"]), "--overwrite"]) == 0
+    c = pd.read_csv(root / "regions.csv").sort_values(["region", "period"]).reset_index(drop=True)
+    pd.testing.assert_frame_equal(c[b.columns], b, rtol=1e-5)
 
 
 def test_bad_regions_stop_the_run_before_any_output(small_case):

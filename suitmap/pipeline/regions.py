@@ -24,13 +24,14 @@ import xarray as xr
 from suitmap.config.runfile import RunFile, load_run
 from suitmap.errors import InputError, OutputError, SuitmapWarning
 from suitmap.layers.metadata import MISSING_CLASS, layer_attrs
-from suitmap.spatial.dispersal import range_change
+from suitmap.spatial.dispersal import RANGE_CHANGE_CLASSES, range_change
 from suitmap.spatial.ranges import cell_lonlat, range_shift, range_summary
 from suitmap.spatial.zonal import read_regions, region_weights, summarize_group
 from suitmap.writers.atomic import atomic_path, atomic_write_text, sha256_file
 
 #: Layer whose level defines the suitable area, per kind of layer group.
 REFERENCE = {"period": "suitability", "ensemble": "ensemble_median_suitability"}
+UNREACHABLE = RANGE_CHANGE_CLASSES.index("unreachable_gain")
 #: Timestamp written into regions.gpkg (GeoPackage stores one; a fixed one keeps reruns identical).
 GPKG_DATE = "2000-01-01T00:00:00Z"
 #: Elevations outside this range (m) are not plausible on land.
@@ -77,7 +78,7 @@ def add_range_layers(layers):
         s = _suitable01(layers.periods[scen.name]["suitability"], level)
         codes = range_change(b, s, reach)
         cand = xr.where(codes == MISSING_CLASS, MISSING_CLASS,
-                        (codes == 4).astype("uint8")).astype("uint8")
+                        (codes == UNREACHABLE).astype("uint8")).astype("uint8")
         ds = ds.copy()
         for lname, da in (("range_change", codes), ("relocation_candidates", cand)):
             da = da.assign_coords(x=ds["x"], y=ds["y"])
@@ -301,10 +302,11 @@ def _read_group(files: list[tuple[str, Path, str]]) -> xr.Dataset:
     return xr.Dataset(out).rio.write_crs(crs)
 
 
-def summarize(runfile, regions: str | Path, field: str, *, layer: str | None = None,
-              overwrite: bool = False) -> Path:
+def summarize(runfile, regions: str | Path | None = None, field: str | None = None, *,
+              layer: str | None = None, overwrite: bool = False) -> Path:
     """Regional summary of a finished output folder (no layer is recomputed).
 
+    ``regions``/``field``/``layer`` default to the run file's ``[regions]``.
     Writes ``regions.csv`` and ``regions.gpkg`` at the output root (replacing
     earlier ones only with ``overwrite``) and lists them in ``manifest.json``.
     Returns the path of ``regions.csv``.
@@ -312,6 +314,15 @@ def summarize(runfile, regions: str | Path, field: str, *, layer: str | None = N
     from suitmap.pipeline.folder import OutputFolder
 
     run = runfile if isinstance(runfile, RunFile) else load_run(runfile)
+    geo = run.geography
+    if regions is None:
+        if geo is None or geo.regions_path is None:
+            raise InputError("summarize: give --regions FILE and --field NAME (the run file has "
+                             "no [regions] table)")
+        regions, field = geo.regions_path, field or geo.regions_field
+        layer = layer or geo.regions_layer
+    if field is None:
+        raise InputError(f"summarize: give --field NAME, the column of {regions} naming each region")
     root = run.output.dir
     mpath = root / "manifest.json"
     if not mpath.is_file():
@@ -335,7 +346,6 @@ def summarize(runfile, regions: str | Path, field: str, *, layer: str | None = N
             groups.append((kind, g, ds))
     if not groups:
         raise OutputError(f"{root}: the manifest lists no GeoTIFF or NetCDF layers to summarize")
-    geo = run.geography
     elev = (elevation_on_grid(geo.elevation, groups[0][2])
             if geo is not None and geo.elevation is not None else None)
     table = region_table(groups, read_regions(regions, field, layer), run.output.suitable_level, elev)
