@@ -200,3 +200,12 @@ def test_summarize_reads_geotiffs_when_there_is_no_netcdf(small_case):
     b = read_back.sort_values(key).reset_index(drop=True)
     assert set(a.columns) == set(b.columns)
     pd.testing.assert_frame_equal(a, b[a.columns], rtol=1e-5)
+
+
+def test_elevation_without_ranges_or_regions_warns(small_case):
+    from suitmap.pipeline.regions import check_geography
+
+    write_dem(small_case["dir"])
+    add(small_case["run"], '[terrain]\nelevation = "dem.tif"')
+    with pytest.warns(SuitmapWarning, match="terrain.elevation is used only with"):
+        check_geography(load_run(small_case["run"]))

@@ -6,7 +6,11 @@ Hooks:
   ``range_change`` and ``relocation_candidates`` to every comparison when the
   run file gives ``[ranges] dispersal_km_per_year``;
 * :func:`write_region_outputs` (``write_outputs``, before the manifest) writes
-  ``regions.csv``, ``regions.gpkg`` and ``ranges.csv`` at the output root;
+  ``regions.csv``, ``regions.gpkg`` and ``ranges.csv`` at the output root, and
+  with the ``png`` format ``region_change.png`` and ``range_edges.png`` in each
+  comparison's folder;
+* :func:`check_geography` (``suitmap.run`` and ``check_run``) reads the regions
+  file and the elevation raster before any output is touched;
 * :func:`summarize` (``suitmap summarize``) does the regional summary from a
   finished output folder, reading its layers back instead of recomputing them.
 """
@@ -56,6 +60,10 @@ def check_geography(run: RunFile) -> None:
         read_regions(geo.regions_path, geo.regions_field, geo.regions_layer)
     if geo.elevation is not None:
         _read_dem(geo.elevation)
+        if not geo.ranges and geo.regions_path is None:
+            warnings.warn(f"{run.path.name}: terrain.elevation is used only with [ranges] or "
+                          "[regions]; add one of them or remove [terrain]", SuitmapWarning,
+                          stacklevel=2)
 
 
 def add_range_layers(layers):
