@@ -11,6 +11,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
+from suitmap.config.geography import Geography, geography_from_dict
 from suitmap.config.toml_file import read_toml
 from suitmap.errors import RunFileError
 
@@ -89,6 +90,7 @@ class RunFile:
     mismatch: Mismatch | None = None
     parameter_draws: int | None = None    # draws of the profile's [uncertainty]
     parameter_seed: int = 0
+    geography: "Geography | None" = None  # [regions], [terrain], [ranges]
     raw: dict[str, Any] = field(default_factory=dict, compare=False, repr=False)
     inventory: tuple[str, ...] = ()   # scenario sets: model × pathway × period found/missing
 
@@ -261,8 +263,8 @@ def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
     """Validate a run file given as a dict; ``path`` anchors relative paths."""
     where = f"run file {path}"
     base = path.parent
-    _keys(raw, ("profile", "baseline", "scenario", "scenario_set", "output", "compute", "mismatch"),
-          where, "")
+    _keys(raw, ("profile", "baseline", "scenario", "scenario_set", "output", "compute", "mismatch",
+                "regions", "terrain", "ranges"), where, "")
     prof = raw.get("profile")
     if isinstance(prof, dict) and isinstance(prof.get("library"), str) and "path" not in prof:
         from suitmap.config import library
@@ -368,7 +370,8 @@ def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
                    threads=threads, diurnal=diurnal, accept_implausible=accept, raw=raw,
                    inventory=tuple(inventory),
                    mismatch=_mismatch(raw.get("mismatch"), base, where),
-                   parameter_draws=draws, parameter_seed=seed)
+                   parameter_draws=draws, parameter_seed=seed,
+                   geography=geography_from_dict(raw, base, where))
 
 
 _EVENT = re.compile(r"^first_[a-z][a-z0-9_]*_day$")

@@ -10,13 +10,16 @@ from __future__ import annotations
 from typing import Any
 
 from suitmap.layers.metadata_biology import BIOLOGY_LAYER_ATTRS, stage_layer_attrs
+from suitmap.spatial.dispersal import RANGE_CHANGE_CLASSES
 
 #: Class layers: names in code order (code = index); 255 marks missing cells.
 LIMITING_FACTOR_CLASSES = ("none", "too_cool", "too_hot", "cold_kill", "heat_kill")
 #: Classes appended to LIMITING_FACTOR_CLASSES when a profile has [moisture] (codes 5, 6).
 MOISTURE_CLASSES = ("too_dry", "too_wet")
 CHANGE_CLASSES = ("stays_unsuitable", "becomes_suitable", "stays_suitable", "becomes_unsuitable")
-CLASS_LAYERS = {"limiting_factor": LIMITING_FACTOR_CLASSES, "change_class": CHANGE_CLASSES}
+RELOCATION_CLASSES = ("not_candidate", "candidate")
+CLASS_LAYERS = {"limiting_factor": LIMITING_FACTOR_CLASSES, "change_class": CHANGE_CLASSES,
+                "range_change": RANGE_CHANGE_CLASSES, "relocation_candidates": RELOCATION_CLASSES}
 #: ``robust_change_<layer>`` of an ensemble (rule: suitmap.comparison.robustness).
 ROBUST_CHANGE_CLASSES = ("no_robust_signal", "robust", "conflicting_signals")
 MISSING_CLASS = 255
@@ -90,6 +93,19 @@ LAYER_ATTRS: dict[str, dict[str, Any]] = {
         "long_name": "change of suitable status between baseline and scenario",
         "flag_values": list(range(len(CHANGE_CLASSES))),
         "flag_meanings": " ".join(CHANGE_CLASSES),
+    },
+    "range_change": {
+        "units": "1",
+        "long_name": "change of the suitable range between baseline and scenario, gains split by "
+                     "whether they lie within the dispersal distance of the baseline range",
+        "flag_values": list(range(len(RANGE_CHANGE_CLASSES))),
+        "flag_meanings": " ".join(RANGE_CHANGE_CLASSES),
+    },
+    "relocation_candidates": {
+        "units": "1",
+        "long_name": "suitable in the scenario but beyond the dispersal distance of the baseline range",
+        "flag_values": [0, 1],
+        "flag_meanings": " ".join(RELOCATION_CLASSES),
     },
 }
 

@@ -188,6 +188,9 @@ def check_run(run: RunFile | str | Path) -> tuple[RunFile, Profile, list[PeriodC
     run = _as_run(run)
     check_output_names(run)
     profile = effective_profile(run)
+    from suitmap.pipeline.regions import check_geography
+
+    check_geography(run)  # [regions] and [terrain] files
     opened = []
     for period in run.periods:
         pc = open_period(period, profile, chunk_cells=run.chunk_cells, qa=True,
@@ -494,6 +497,9 @@ def run(run: RunFile | str | Path, *, overwrite: bool = False, progress: bool = 
     check_output_names(run)
     folder = OutputFolder(run.output.dir, run.path, overwrite)
     folder.check()
+    from suitmap.pipeline.regions import check_geography
+
+    check_geography(run)  # [regions] and [terrain] files readable before any work
     lazy = compute_run(run)
     periods: dict[str, xr.Dataset] = {}
     with folder, dask.config.set(num_workers=threads(run.threads)):
@@ -510,6 +516,9 @@ def run(run: RunFile | str | Path, *, overwrite: bool = False, progress: bool = 
                 periods[name] = got
         comps, ens = derive(run, periods)
         layers = RunLayers(run, lazy.profile, periods, comps, lazy.inputs, ens, lazy.keys)
+        from suitmap.pipeline.regions import add_range_layers
+
+        layers = add_range_layers(layers)  # [ranges] dispersal_km_per_year: range_change layers
         manifest = write_outputs(layers, folder=folder)
         mark_finished(run)
         return manifest
