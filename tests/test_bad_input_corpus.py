@@ -370,3 +370,51 @@ def test_impossible_values_are_refused_even_when_accepted(case, capsys):
     edit(case["run"], "fast_tables = true", "fast_tables = true\naccept_implausible = true")
     code, out, err = cli(case, "check", capsys)
     assert code == 2 and "base_tmax.nc" in err and "65" in err
+
+
+# ------------------------------------------------------------------ nothing half-written
+def _failing_writer(monkeypatch, after: int):
+    import suitmap.pipeline.outputs as outputs
+
+    calls = {"n": 0}
+    real = outputs.write_cog
+
+    def flaky(*a, **k):
+        calls["n"] += 1
+        if calls["n"] > after:
+            raise OSError(28, "No space left on device (simulated)")
+        return real(*a, **k)
+
+    monkeypatch.setattr(outputs, "write_cog", flaky)
+
+
+def _tree(folder: Path) -> dict[str, bytes]:
+    return {str(p.relative_to(folder)): p.read_bytes() for p in folder.rglob("*")
+            if p.is_file() and ".suitmap" not in p.parts}
+
+
+def test_failed_write_leaves_the_previous_complete_run(case, capsys, monkeypatch):
+    from suitmap.writers.manifest import verify_manifest
+
+    assert cli(case, "run", capsys)[0] == 0
+    out = case["dir"] / "results"
+    previous = _tree(out)
+    edit(case["profile"], "generation = 300.0", "generation = 250.0")  # new layers to write
+    _failing_writer(monkeypatch, after=3)
+    code, _, err = cli(case, "run", capsys)
+    assert code == 2 and "Traceback" not in err
+    assert "nothing was published" in err and "previous complete outputs" in err and "unchanged" in err
+    assert _tree(out) == previous and verify_manifest(out / "manifest.json") == []
+    assert not (out / ".suitmap" / "staging").exists()
+
+
+def test_failed_overwrite_keeps_the_users_folder(case, capsys, monkeypatch):
+    out = case["dir"] / "results"
+    out.mkdir()
+    (out / "notes.txt").write_text("user data")
+    _failing_writer(monkeypatch, after=0)
+    main(["run", "--overwrite", str(case["run"])])
+    err = capsys.readouterr().err
+    assert "nothing was published" in err and "holds no outputs of this run" in err
+    assert (out / "notes.txt").read_text() == "user data"
+    assert sorted(p.name for p in out.iterdir()) == [".suitmap", "notes.txt"]

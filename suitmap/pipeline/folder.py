@@ -78,6 +78,7 @@ class OutputFolder:
         self.cache_dir = self.state_dir / "cache"
         self.lock_file = self.state_dir / "lock"
         self._locked = False
+        self.clear_on_publish = False
 
     # -- ownership ----------------------------------------------------------
     def owner(self) -> str | None:
@@ -107,10 +108,10 @@ class OutputFolder:
         fresh = not self.path.exists()
         self.state_dir.mkdir(parents=True, exist_ok=True)
         self._lock()
-        if self.overwrite and not fresh:
-            for child in self.path.iterdir():
-                if child.name != STATE_DIR:
-                    shutil.rmtree(child) if child.is_dir() else child.unlink()
+        # --overwrite: the old content goes only when the new outputs are complete
+        # (suitmap.pipeline.publish), so a failed run leaves it in place
+        self.clear_on_publish = self.overwrite and not fresh
+        if self.clear_on_publish:
             shutil.rmtree(self.cache_dir, ignore_errors=True)
         self.cache_dir.mkdir(exist_ok=True)
         self._remove_stale_temporaries()
