@@ -418,3 +418,19 @@ def test_failed_overwrite_keeps_the_users_folder(case, capsys, monkeypatch):
     assert "nothing was published" in err and "holds no outputs of this run" in err
     assert (out / "notes.txt").read_text() == "user data"
     assert sorted(p.name for p in out.iterdir()) == [".suitmap", "notes.txt"]
+
+
+def test_read_error_met_while_computing_is_named(case, capsys, monkeypatch):
+    """Data that fail only when the layers are computed (the plausibility pass, which would
+    meet them first, is switched off here) give the same one-line error naming the files,
+    and a first run leaves no output folder behind."""
+    import suitmap.climate.plausibility as plausibility
+
+    monkeypatch.setattr(plausibility, "check_values", lambda *a, **k: {})
+    corrupt_compressed(case)
+    before = snapshot(case["dir"])
+    code, _, err = cli(case, "run", capsys)
+    errors = [ln for ln in err.splitlines() if ln.startswith("suitmap: error:")]
+    assert code == 2 and len(errors) == 1 and "Traceback" not in err, err
+    assert "base_tmin.nc" in errors[0] and "reading the climate data failed" in errors[0]
+    assert snapshot(case["dir"]) == before

@@ -105,6 +105,15 @@ class OutputFolder:
 
     def __enter__(self) -> "OutputFolder":
         self.check()
+        self._fresh = not self.path.exists() and not self.path.is_symlink()
+        try:
+            return self._enter()
+        except OSError as exc:
+            self.__exit__(type(exc), exc, None)
+            raise OutputError(f"output folder {self.path} cannot be prepared ({exc.strerror or exc}); "
+                              "check its permissions or choose another output.dir") from exc
+
+    def _enter(self) -> "OutputFolder":
         fresh = not self.path.exists()
         self.state_dir.mkdir(parents=True, exist_ok=True)
         self._lock()
@@ -126,6 +135,10 @@ class OutputFolder:
             except FileNotFoundError:
                 pass
             self._locked = False
+        if exc and exc[0] is not None and getattr(self, "_fresh", False) and self.path.is_dir() and not any(
+                self.path.glob(f"{STATE_DIR}/cache/*.nc")) and not any(
+                c.name != STATE_DIR for c in self.path.iterdir()):
+            shutil.rmtree(self.path, ignore_errors=True)  # a failed first run leaves no folder
         return False
 
     def _remove_stale_temporaries(self) -> None:
