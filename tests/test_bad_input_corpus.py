@@ -265,6 +265,9 @@ CLIMATE = {
                              days=np.r_[np.arange(100), np.arange(101, NT + 1)]), ["baseline", "missing"]),
     "geotiff_undeclared_nodata": (geotiff_input(lambda a: put(a, -9999.0)), ["base_tmin.tif", "-9999"]),
     "geotiff_inf": (geotiff_input(lambda a: put(a, np.inf)), ["base_tmin.tif", "infinite"]),
+    "fahrenheit_values_impossible": (lambda c: nc(c["clim"] / "base_tmin.nc", c["tmin"] * 0 + 500, "tmin",
+                                                  units="degF"), ["base_tmin.nc", "260"]),
+    "geotiff_kelvin_label_on_celsius": (geotiff_input(lambda a: a, units="K"), ["base_tmin.tif", "units say K"]),
     "geotiff_all_nodata": (geotiff_input(lambda a: np.full_like(a, -1.0), nodata=-1.0),
                            ["base_tmin.tif", "no valid value"]),
 }
@@ -292,6 +295,11 @@ PROFILE_FAULTS = {
     "threshold_as_text": (profile_set("lower_threshold = 10.0", 'lower_threshold = "ten"'),
                           ["lower_threshold"]),
     "profile_not_toml": (lambda c: c["profile"].write_text("lower_threshold: 10\n"), ["profile.toml"]),
+    "profile_is_a_folder": (lambda c: (c["profile"].unlink(), c["profile"].mkdir()), ["profile.toml", "folder"]),
+    "source_too_long": (profile_set('role = "pest"', 'role = "pest"\nsource = "' + "s" * 3000 + '"'),
+                        ["organism.source"]),
+    "rate_curve_parameter_nan": (profile_set("generation = 300.0", "generation = 300.0\nrate_curve = "
+                                             "{ model = \"linear\", a = nan, b = 0.01 }"), ["rate_curve.a"]),
     "profile_missing": (lambda c: c["profile"].unlink(), ["profile.toml"]),
 }
 
@@ -318,6 +326,7 @@ RUN_FAULTS = {
     "threads_negative": (run_set("fast_tables = true", "threads = -1"), ["threads"]),
     "unknown_compute_key": (run_set("fast_tables = true", "fast = true"), ["compute.fast"]),
     "binary_run_file": (lambda c: c["run"].write_bytes(b"\xff\xfe\x00garbage\x89PNG"), ["run.toml"]),
+    "utf16_run_file": (lambda c: c["run"].write_bytes(c["run"].read_text().encode("utf-16")), ["run.toml"]),
     "output_dangling_symlink": (lambda c: os.symlink(c["dir"] / "gone" / "away", c["dir"] / "results"),
                                 ["results", "does not exist"]),
     "output_is_a_file": (lambda c: (c["dir"] / "results").write_text("mine"), ["results", "file"]),
