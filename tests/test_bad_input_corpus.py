@@ -443,3 +443,14 @@ def test_read_error_met_while_computing_is_named(case, capsys, monkeypatch):
     assert code == 2 and len(errors) == 1 and "Traceback" not in err, err
     assert "base_tmin.nc" in errors[0] and "reading the climate data failed" in errors[0]
     assert snapshot(case["dir"]) == before
+
+
+def test_scenario_covering_part_of_the_baseline_grid_is_said(case, capsys):
+    """A scenario grid on the baseline's western half only: `check` notes the uncovered
+    cells (6 of 12: the centres at longitudes 2.5 and 3.5 of three rows)."""
+    half = slice(0, 2)
+    nc(case["clim"] / "scen_tmin.nc", case["tmin"][:, :, half] + 2, "tmin", start="2053-01-01", lon=LON[half])
+    nc(case["clim"] / "scen_tmax.nc", case["tmax"][:, :, half] + 2, "tmax", start="2053-01-01", lon=LON[half])
+    code, out, err = cli(case, "check", capsys)
+    assert code == 0, err
+    assert "covers only part of the baseline grid: at least 6 of 12" in out
