@@ -88,3 +88,24 @@ def test_normal_route_needs_daily_sd(tmp_path):
     run, _ = monthly_case(tmp_path, 12, 'monthly_route = "normal"\n')
     with pytest.raises(suitmap.errors.InputError, match="daily_sd"):
         suitmap.compute_run(run)
+
+
+def test_climatology_with_a_month_dimension(tmp_path):
+    """A 12-month climatology on a 'month' dimension (1-12, here stored December first) gives
+    the same daily values as the same climatology on a CF time axis."""
+    run, mean = monthly_case(tmp_path, 12)
+    prof = suitmap.load_profile(tmp_path / "profile.toml")
+    ref = suitmap.open_period(suitmap.load_run(run).baseline, prof)
+    order = np.r_[11, np.arange(11)]
+    for var, values in (("tmin", mean - 5.0), ("tmax", mean + 5.0)):
+        da = xr.DataArray(values[order].astype("f4"), dims=("month", "lat", "lon"), name=var,
+                          coords={"month": order + 1, "lat": [49.5, 48.5], "lon": [0.5, 1.5, 2.5]},
+                          attrs={"units": "degC"})
+        da["lat"].attrs = {"units": "degrees_north", "standard_name": "latitude"}
+        da["lon"].attrs = {"units": "degrees_east", "standard_name": "longitude"}
+        (tmp_path / f"{var}_clim.nc").unlink(missing_ok=True)
+        da.to_dataset().rio.write_crs("EPSG:4326").to_netcdf(tmp_path / f"{var}_clim.nc")
+    run.write_text(run.read_text().replace('"tn.nc"', '"tmin_clim.nc"').replace('"tx.nc"', '"tmax_clim.nc"'))
+    got = suitmap.open_period(suitmap.load_run(run).baseline, prof)
+    np.testing.assert_allclose(got.tmin.values, ref.tmin.values, atol=1e-6)
+    np.testing.assert_allclose(got.tmax.values, ref.tmax.values, atol=1e-6)

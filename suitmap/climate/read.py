@@ -143,6 +143,21 @@ def _aligned(file_chunk, target: int, size: int) -> int:
     return int(min(size, file_chunk * max(1, target // file_chunk)))
 
 
+def _month_axis(da: xr.DataArray, where: str):
+    """A climatology's ``month`` dimension (values 1-12) as a time axis (mid-months of year 2001)."""
+    mdims = [d for d in da.dims if str(d).lower() == "month" and da.sizes[d] == 12]
+    if not mdims:
+        raise InputError(f"{where} has no decodable time dimension; daily data with a CF time axis "
+                         "(or a 12-month climatology with a 'month' dimension 1-12) is needed")
+    m = str(mdims[0])
+    values = np.asarray(da[m].values) if m in da.coords else np.arange(1, 13)
+    if sorted(np.round(values.astype(float)).astype(int).tolist()) != list(range(1, 13)):
+        raise InputError(f"{where}: dimension '{m}' must hold the months 1 to 12 once each")
+    da = da.assign_coords({m: np.round(values.astype(float)).astype(int)}).sortby(m)
+    times = np.array([np.datetime64(f"2001-{k:02d}-15", "ns") for k in range(1, 13)])
+    return da.assign_coords({m: times}), [m]
+
+
 def _open_netcdf(path: Path, role: str, variable, cy, cx, file_chunks: bool = False) -> dict:
     try:
         ds = xr.open_dataset(path, engine="netcdf4", decode_coords="all", mask_and_scale=True, cache=False)
@@ -154,7 +169,7 @@ def _open_netcdf(path: Path, role: str, variable, cy, cx, file_chunks: bool = Fa
     tdims = [d for d in da.dims if d in da.coords and da[d].size and (
         np.issubdtype(da[d].dtype, np.datetime64) or isinstance(da[d].values.flat[0], cftime.datetime))]
     if not tdims:
-        raise InputError(f"{where} has no decodable time dimension; daily data with a CF time axis is needed")
+        da, tdims = _month_axis(da, where)
     tdim = str(tdims[0])
     xdim = _spatial_dim(da, _X_NAMES, ("longitude", "projection_x_coordinate", "grid_longitude"), "X", where)
     ydim = _spatial_dim(da, _Y_NAMES, ("latitude", "projection_y_coordinate", "grid_latitude"), "Y", where)
