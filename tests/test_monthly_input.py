@@ -11,6 +11,7 @@ import xarray as xr
 from scipy.stats import norm
 
 import suitmap
+from suitmap.errors import InputError
 from conftest import write_profile
 
 
@@ -109,3 +110,16 @@ def test_climatology_with_a_month_dimension(tmp_path):
     got = suitmap.open_period(suitmap.load_run(run).baseline, prof)
     np.testing.assert_allclose(got.tmin.values, ref.tmin.values, atol=1e-6)
     np.testing.assert_allclose(got.tmax.values, ref.tmax.values, atol=1e-6)
+
+
+@pytest.mark.parametrize("route", ['monthly_route = "interpolate"\n',
+                                   'monthly_route = "normal"\ndaily_sd = 3.0\n'])
+def test_both_routes_refuse_a_series_missing_months(tmp_path, route):
+    """A series starting in March 2001 for years 2001-2002: January and February are missing;
+    both routes apply one rule (the normal route used to sum the season without them)."""
+    run, mean = monthly_case(tmp_path, 24, route)
+    times = pd.date_range("2001-03-01", periods=22, freq="MS") + pd.Timedelta(days=14)
+    write_monthly(tmp_path / "tn.nc", mean[2:] - 5.0, times, "tmin")
+    write_monthly(tmp_path / "tx.nc", mean[2:] + 5.0, times, "tmax")
+    with pytest.raises(InputError, match="2 missing, the first 2001-01"):
+        suitmap.compute_run(run)
