@@ -454,3 +454,37 @@ def test_scenario_covering_part_of_the_baseline_grid_is_said(case, capsys):
     code, out, err = cli(case, "check", capsys)
     assert code == 0, err
     assert "covers only part of the baseline grid: at least 6 of 12" in out
+
+
+# ------------------------------------------------------------------ size guard
+def test_huge_declared_grid_is_refused_before_reading(case, capsys):
+    """A file declaring 60 000 × 120 000 cells (data never written, so the file is small):
+    refused from its declared sizes, naming the file, before any value is read."""
+    p = case["clim"] / "base_tmin.nc"
+    with netCDF4.Dataset(p, "w") as ds:
+        ds.createDimension("time", None)
+        ds.createDimension("lat", 60_000)
+        ds.createDimension("lon", 120_000)
+        t = ds.createVariable("time", "f8", ("time",))
+        t.units, t.calendar = "days since 2001-01-01", "standard"
+        t[:] = np.arange(NT)
+        la = ds.createVariable("lat", "f8", ("lat",))
+        la[:], la.units = 89.9985 - 0.003 * np.arange(60_000), "degrees_north"
+        lo = ds.createVariable("lon", "f8", ("lon",))
+        lo[:], lo.units = -179.9985 + 0.003 * np.arange(120_000), "degrees_east"
+        v = ds.createVariable("tmin", "f4", ("time", "lat", "lon"))
+        v.units = "degC"
+    before = snapshot(case["dir"])
+    code, _, err = cli(case, "check", capsys)
+    assert code == 2 and "base_tmin.nc" in err and "chunks" in err and "Traceback" not in err, err
+    assert snapshot(case["dir"]) == before
+
+
+def test_chunks_too_large_for_the_memory_are_refused(case, capsys, monkeypatch):
+    import suitmap.climate.size_guard as size_guard
+
+    # 365 days × 12 cells × 32 bytes × threads needs well over 64 KiB
+    monkeypatch.setattr(size_guard, "available_memory", lambda: 2**16)
+    code, _, err = cli(case, "run", capsys)
+    assert code == 2 and "base_tmin.nc" in err and "chunk_cells" in err and "Traceback" not in err, err
+    assert not (case["dir"] / "results").exists()

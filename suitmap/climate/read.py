@@ -50,7 +50,7 @@ from suitmap.climate.time_axis import _as_dates, _days, _iso, _ymd, select_years
 from suitmap.climate.time_axis import _check_daily, _check_monthly, _drop_overlap, _is_monthly, check_order
 from suitmap.climate.conventions import (_CALENDARS, _CFTIME_TYPES, _ISO_DATE, ROLES,  # noqa: F401
                                          _canonical_calendar, _canonical_units, _to_celsius)
-from suitmap.climate import plausibility
+from suitmap.climate import plausibility, size_guard
 from suitmap.climate.geotiff import _open_geotiff
 from suitmap.climate.grid import _TOL, _crs_text, _grid, check_same_grid  # noqa: F401
 from suitmap.errors import InputError, SuitmapWarning
@@ -284,6 +284,8 @@ def open_climate(paths, role: str, *, variable: str | None = None, chunks: dict 
         Read every file once to refuse impossible or suspicious temperatures
         (:mod:`suitmap.climate.plausibility`; one streamed pass per file).
         Off by default (the result stays fully lazy); ``check`` and ``run`` turn it on.
+        The declared sizes are first checked against this machine
+        (:mod:`suitmap.climate.size_guard`).
     accept_implausible : bool
         Let the *suspicious* values of that check pass (never the impossible ones).
 
@@ -319,6 +321,7 @@ def open_climate(paths, role: str, *, variable: str | None = None, chunks: dict 
         plausibility.check_coordinates(raw[p["dims"][2]].values, raw[p["dims"][1]].values,
                                        p["crs"].is_geographic, p["where"])
         if check_values:
+            size_guard.check_size(raw, p["where"])
             enc = raw.encoding
             integer = np.issubdtype(np.dtype(enc.get("dtype", raw.dtype)), np.integer) and \
                 "scale_factor" not in enc
