@@ -141,9 +141,11 @@ def test_failure_mid_run_leaves_no_broken_file_and_resumes(small_case, capsys, m
 
     monkeypatch.setattr(outputs, "write_cog", flaky)
     code, _, err = run_cli(["run", str(small_case["run"])], capsys)
-    assert code == 1 and "Traceback" not in err and len(err.strip().splitlines()) == 1
+    assert code == 2 and "Traceback" not in err and len(err.strip().splitlines()) == 1
+    assert "nothing was published" in err and "disk full" in err
     out = small_case["dir"] / "results"
     assert not (out / "manifest.json").exists()
+    assert sorted(p.name for p in out.iterdir()) == [".suitmap"]  # no layer of the failed run
     assert not [p for p in out.rglob("*") if ".tmp" in p.name or "partial" in p.name]
     for tif in out.rglob("*.tif"):
         with rasterio.open(tif) as src:

@@ -11,6 +11,7 @@ import xarray as xr
 from scipy.stats import norm
 
 import suitmap
+from suitmap.errors import InputError
 from conftest import write_profile
 
 
@@ -87,4 +88,38 @@ def test_normal_route_matches_thom_formula(tmp_path):
 def test_normal_route_needs_daily_sd(tmp_path):
     run, _ = monthly_case(tmp_path, 12, 'monthly_route = "normal"\n')
     with pytest.raises(suitmap.errors.InputError, match="daily_sd"):
+        suitmap.compute_run(run)
+
+
+def test_climatology_with_a_month_dimension(tmp_path):
+    """A 12-month climatology on a 'month' dimension (1-12, here stored December first) gives
+    the same daily values as the same climatology on a CF time axis."""
+    run, mean = monthly_case(tmp_path, 12)
+    prof = suitmap.load_profile(tmp_path / "profile.toml")
+    ref = suitmap.open_period(suitmap.load_run(run).baseline, prof)
+    order = np.r_[11, np.arange(11)]
+    for var, values in (("tmin", mean - 5.0), ("tmax", mean + 5.0)):
+        da = xr.DataArray(values[order].astype("f4"), dims=("month", "lat", "lon"), name=var,
+                          coords={"month": order + 1, "lat": [49.5, 48.5], "lon": [0.5, 1.5, 2.5]},
+                          attrs={"units": "degC"})
+        da["lat"].attrs = {"units": "degrees_north", "standard_name": "latitude"}
+        da["lon"].attrs = {"units": "degrees_east", "standard_name": "longitude"}
+        (tmp_path / f"{var}_clim.nc").unlink(missing_ok=True)
+        da.to_dataset().rio.write_crs("EPSG:4326").to_netcdf(tmp_path / f"{var}_clim.nc")
+    run.write_text(run.read_text().replace('"tn.nc"', '"tmin_clim.nc"').replace('"tx.nc"', '"tmax_clim.nc"'))
+    got = suitmap.open_period(suitmap.load_run(run).baseline, prof)
+    np.testing.assert_allclose(got.tmin.values, ref.tmin.values, atol=1e-6)
+    np.testing.assert_allclose(got.tmax.values, ref.tmax.values, atol=1e-6)
+
+
+@pytest.mark.parametrize("route", ['monthly_route = "interpolate"\n',
+                                   'monthly_route = "normal"\ndaily_sd = 3.0\n'])
+def test_both_routes_refuse_a_series_missing_months(tmp_path, route):
+    """A series starting in March 2001 for years 2001-2002: January and February are missing;
+    both routes apply one rule (the normal route used to sum the season without them)."""
+    run, mean = monthly_case(tmp_path, 24, route)
+    times = pd.date_range("2001-03-01", periods=22, freq="MS") + pd.Timedelta(days=14)
+    write_monthly(tmp_path / "tn.nc", mean[2:] - 5.0, times, "tmin")
+    write_monthly(tmp_path / "tx.nc", mean[2:] + 5.0, times, "tmax")
+    with pytest.raises(InputError, match="2 missing, the first 2001-01"):
         suitmap.compute_run(run)

@@ -52,12 +52,32 @@ def _daily_axis(first: int, last: int, calendar: str):
         freq="D", calendar=calendar, use_cftime=use_cftime)
 
 
+def check_months_complete(da: xr.DataArray, years: tuple[int, int]) -> bool:
+    """The rule both monthly routes apply: a series holds every month of ``years``.
+
+    Returns True for a 12-month climatology (months 1-12 once each), which is
+    exempt; raises :class:`InputError` naming the first missing month otherwise.
+    """
+    yrs, mons = _ym(da)
+    if da.sizes["time"] == 12 and sorted(mons) == list(range(1, 13)):
+        return True
+    first, last = years
+    have = set(zip(yrs.tolist(), mons.tolist()))
+    missing = [(y, m) for y in range(first, last + 1) for m in range(1, 13) if (y, m) not in have]
+    if missing:
+        y, m = missing[0]
+        raise InputError(f"{da.attrs.get('source_files', 'monthly input')}: monthly series does "
+                         f"not cover every month of {first}-{last} ({len(missing)} missing, the first "
+                         f"{y:04d}-{m:02d}); extend it or change the years")
+    return False
+
+
 def to_daily(da: xr.DataArray, years: tuple[int, int]) -> xr.DataArray:
     """Route ``interpolate``: daily values (lazy) whose monthly means equal ``da``'s."""
     calendar = da.attrs.get("calendar", "standard")
     first, last = years
     yrs, mons = _ym(da)
-    if da.sizes["time"] == 12 and sorted(mons) == list(range(1, 13)):
+    if check_months_complete(da, years):
         order = np.argsort(mons)
         clim = da.isel(time=order)
         pieces = []
@@ -74,9 +94,6 @@ def to_daily(da: xr.DataArray, years: tuple[int, int]) -> xr.DataArray:
         keep = (yrs >= first) & (yrs <= last)
         sel = da.isel(time=np.flatnonzero(keep))
         y2, m2 = _ym(sel)
-        if sel.sizes["time"] != 12 * (last - first + 1):
-            raise InputError(f"{da.attrs.get('source_files', 'monthly input')}: monthly series does "
-                             f"not cover every month of {first}-{last}; extend it or change the years")
         dim = np.array([_days_in(int(a), int(b), calendar) for a, b in zip(y2, m2)])
         daily = xr.apply_ufunc(
             monthly_series_to_daily, sel, input_core_dims=[["time"]], output_core_dims=[["day"]],

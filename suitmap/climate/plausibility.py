@@ -31,8 +31,8 @@ Limits on daily near-surface air temperature (°C), from the observed extremes:
 
 Units that contradict the values are judged from the mean: a mean below
 :data:`KELVIN_FLOOR` (150) in a file that says kelvin cannot be kelvin (the
-coldest mean is above 200 K), and a mean above it in a file that says °C or
-°F cannot be either.
+coldest mean is above 200 K), and a mean between it and
+:data:`KELVIN_CEILING` (340) in a file that says °C or °F looks like kelvin.
 """
 
 from __future__ import annotations
@@ -52,6 +52,7 @@ RECORD_HIGH = 56.7     # °C, Death Valley 1913 (WMO archive)
 IMPOSSIBLE_LOW = -95.0   # °C, below the record with room for gridding error
 IMPOSSIBLE_HIGH = 65.0   # °C, above the record with room for gridding error
 KELVIN_FLOOR = 150.0   # a mean below this is not a near-surface temperature in kelvin
+KELVIN_CEILING = 340.0  # nor a mean above this (only means in between are taken for kelvin)
 #: Common undeclared missing-value markers (compared with the stored values).
 FILL_VALUES = (-9999.0, -999.0, -999.9, -99.9, -99.0, -32768.0, 32767.0, 9999.0, 999.0,
                -3.4028235e38, 3.4028235e38, 9.96921e36, 1e20, -1e20, 1e30, -1e30)
@@ -160,7 +161,7 @@ def check_values(da: xr.DataArray, units: str, where: str, *, stored_integer: bo
         if units == "K" and mean < KELVIN_FLOOR:
             raise InputError(f"{where}: units say K but the values (mean {mean:.1f}) look like °C or °F; "
                              "fix the units attribute")
-        if units in ("degC", "degF") and mean > KELVIN_FLOOR:
+        if units in ("degC", "degF") and KELVIN_FLOOR < mean < KELVIN_CEILING:
             raise InputError(f"{where}: units say {units} but the values (mean {mean:.1f}) look like "
                              "kelvin; fix the units attribute (units = 'K')")
     if n_bad:

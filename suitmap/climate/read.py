@@ -50,7 +50,7 @@ from suitmap.climate.time_axis import _as_dates, _days, _iso, _ymd, select_years
 from suitmap.climate.time_axis import _check_daily, _check_monthly, _drop_overlap, _is_monthly, check_order
 from suitmap.climate.conventions import (_CALENDARS, _CFTIME_TYPES, _ISO_DATE, ROLES,  # noqa: F401
                                          _canonical_calendar, _canonical_units, _to_celsius)
-from suitmap.climate import plausibility
+from suitmap.climate import plausibility, size_guard
 from suitmap.climate.geotiff import _open_geotiff
 from suitmap.climate.grid import _TOL, _crs_text, _grid, check_same_grid  # noqa: F401
 from suitmap.errors import InputError, SuitmapWarning
@@ -149,6 +149,21 @@ def _is_zarr(path: Path) -> bool:
     return path.suffix.lower() in ZARR_SUFFIXES and path.is_dir()
 
 
+def _month_axis(da: xr.DataArray, where: str):
+    """A climatology's ``month`` dimension (values 1-12) as a time axis (mid-months of year 2001)."""
+    mdims = [d for d in da.dims if str(d).lower() == "month" and da.sizes[d] == 12]
+    if not mdims:
+        raise InputError(f"{where} has no decodable time dimension; daily data with a CF time axis "
+                         "(or a 12-month climatology with a 'month' dimension 1-12) is needed")
+    m = str(mdims[0])
+    values = np.asarray(da[m].values) if m in da.coords else np.arange(1, 13)
+    if sorted(np.round(values.astype(float)).astype(int).tolist()) != list(range(1, 13)):
+        raise InputError(f"{where}: dimension '{m}' must hold the months 1 to 12 once each")
+    da = da.assign_coords({m: np.round(values.astype(float)).astype(int)}).sortby(m)
+    times = np.array([np.datetime64(f"2001-{k:02d}-15", "ns") for k in range(1, 13)])
+    return da.assign_coords({m: times}), [m]
+
+
 def _open_netcdf(path: Path, role: str, variable, cy, cx, file_chunks: bool = False) -> dict:
     """A NetCDF file or a Zarr store (the same CF conventions, another container)."""
     zarr = _is_zarr(path)
@@ -168,7 +183,7 @@ def _open_netcdf(path: Path, role: str, variable, cy, cx, file_chunks: bool = Fa
     tdims = [d for d in da.dims if d in da.coords and da[d].size and (
         np.issubdtype(da[d].dtype, np.datetime64) or isinstance(da[d].values.flat[0], cftime.datetime))]
     if not tdims:
-        raise InputError(f"{where} has no decodable time dimension; daily data with a CF time axis is needed")
+        da, tdims = _month_axis(da, where)
     tdim = str(tdims[0])
     xdim = _spatial_dim(da, _X_NAMES, ("longitude", "projection_x_coordinate", "grid_longitude"), "X", where)
     ydim = _spatial_dim(da, _Y_NAMES, ("latitude", "projection_y_coordinate", "grid_latitude"), "Y", where)
@@ -286,6 +301,8 @@ def open_climate(paths, role: str, *, variable: str | None = None, chunks: dict 
         Read every file once to refuse impossible or suspicious temperatures
         (:mod:`suitmap.climate.plausibility`; one streamed pass per file).
         Off by default (the result stays fully lazy); ``check`` and ``run`` turn it on.
+        The declared sizes are first checked against this machine
+        (:mod:`suitmap.climate.size_guard`).
     accept_implausible : bool
         Let the *suspicious* values of that check pass (never the impossible ones).
 
@@ -322,6 +339,7 @@ def open_climate(paths, role: str, *, variable: str | None = None, chunks: dict 
         plausibility.check_coordinates(raw[p["dims"][2]].values, raw[p["dims"][1]].values,
                                        p["crs"].is_geographic, p["where"])
         if check_values:
+            size_guard.check_size(raw, p["where"])
             enc = raw.encoding
             integer = np.issubdtype(np.dtype(enc.get("dtype", raw.dtype)), np.integer) and \
                 "scale_factor" not in enc

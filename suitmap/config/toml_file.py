@@ -15,6 +15,8 @@ else:  # pragma: no cover
 def read_toml(path: str | Path, error_type: type[Exception], what: str) -> dict[str, Any]:
     """Parse ``path`` as TOML; raise ``error_type`` with a one-line message on failure."""
     path = Path(path)
+    if path.is_dir():
+        raise error_type(f"{what} {path}: is a folder, not a file; give the path of the TOML file")
     if not path.is_file():
         raise error_type(f"{what} {path}: file not found; check the path")
     try:

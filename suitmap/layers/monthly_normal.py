@@ -13,7 +13,7 @@ from __future__ import annotations
 import numpy as np
 import xarray as xr
 
-from suitmap.climate.monthly import _days_in, _ym
+from suitmap.climate.monthly import _days_in, _ym, check_months_complete
 from suitmap.errors import InputError
 from suitmap.kernels.monthly import monthly_degree_days_normal
 from suitmap.layers.metadata import LIMITING_FACTOR_CLASSES, MISSING_CLASS, layer_attrs
@@ -27,6 +27,7 @@ def normal_route_layers(tmin: xr.DataArray, tmax: xr.DataArray, profile, years: 
     if dev.degree_days_per_generation is None:
         raise InputError("the monthly 'normal' route needs development.degree_days_per_generation "
                          "in the profile (it computes degree-days, not rate summation)")
+    check_months_complete(tmin, years)  # the same rule as the interpolate route
     calendar = tmin.attrs.get("calendar", "standard")
     first, last = years
     yrs, mons = _ym(tmin)

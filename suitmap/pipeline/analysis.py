@@ -23,8 +23,8 @@ from suitmap.layers.compute import compute_layers, season_windows
 from suitmap.config.profile import Profile, load_profile
 from suitmap.pipeline.folder import period_key
 from suitmap.config.runfile import Period, RunFile, load_run
-from suitmap.pipeline.preflight import (check_output_names, comparison_name, ensemble_name,  # noqa: F401
-                                        named_read_errors)
+from suitmap.pipeline.preflight import (check_output_names, comparison_name, coverage_gap,  # noqa: F401
+                                        ensemble_name, named_read_errors)
 from suitmap.pipeline.derive import change_name, derive, ensemble_groups, snap_layers  # noqa: F401
 from suitmap.pipeline.scheduling import threads
 from suitmap.pipeline.whatif import apply_offsets, describe
@@ -203,6 +203,9 @@ def check_run(run: RunFile | str | Path) -> tuple[RunFile, Profile, list[PeriodC
         if not grids_match(base.tmin.isel(time=0), pc.tmin.isel(time=0)):
             pc.notes.append("grid differs from the baseline's: its layers will be snapped to the "
                             "baseline grid (bilinear; classes by mode/nearest)")
+            gap = coverage_gap(base.tmin, pc.tmin)
+            if gap:
+                pc.notes.append(gap)
     return run, profile, opened
 
 
@@ -327,6 +330,9 @@ def compute_run(run: RunFile | str | Path) -> RunLayers:
             template = ds  # the baseline's grid is the template of every comparison
         else:
             ds = snap_layers(ds, template)
+            gap = coverage_gap(base_clim.tmin, pc.tmin)
+            if gap:
+                warnings.warn(f"period '{period.name}' {gap}", SuitmapWarning, stacklevel=2)
         if describe(period):
             ds.attrs["temperature_offsets"] = describe(period)
         ds["tmin_tmax_swapped_cell_days"] = pc.swapped

@@ -84,6 +84,7 @@ class OutputFolder:
         self.cache_dir = self.state_dir / "cache"
         self.lock_file = self.state_dir / "lock"
         self._locked = False
+        self.clear_on_publish = False
 
     # -- ownership ----------------------------------------------------------
     def owner(self) -> str | None:
@@ -110,13 +111,22 @@ class OutputFolder:
 
     def __enter__(self) -> "OutputFolder":
         self.check()
+        self._fresh = not self.path.exists() and not self.path.is_symlink()
+        try:
+            return self._enter()
+        except OSError as exc:
+            self.__exit__(type(exc), exc, None)
+            raise OutputError(f"output folder {self.path} cannot be prepared ({exc.strerror or exc}); "
+                              "check its permissions or choose another output.dir") from exc
+
+    def _enter(self) -> "OutputFolder":
         fresh = not self.path.exists()
         self.state_dir.mkdir(parents=True, exist_ok=True)
         self._lock()
-        if self.overwrite and not fresh:
-            for child in self.path.iterdir():
-                if child.name != STATE_DIR:
-                    shutil.rmtree(child) if child.is_dir() else child.unlink()
+        # --overwrite: the old content goes only when the new outputs are complete
+        # (suitmap.pipeline.publish), so a failed run leaves it in place
+        self.clear_on_publish = self.overwrite and not fresh
+        if self.clear_on_publish:
             shutil.rmtree(self.cache_dir, ignore_errors=True)
         self.cache_dir.mkdir(exist_ok=True)
         self._remove_stale_temporaries()
@@ -131,6 +141,10 @@ class OutputFolder:
             except FileNotFoundError:
                 pass
             self._locked = False
+        if exc and exc[0] is not None and getattr(self, "_fresh", False) and self.path.is_dir() and not any(
+                self.path.glob(f"{STATE_DIR}/cache/*.nc")) and not any(
+                c.name != STATE_DIR for c in self.path.iterdir()):
+            shutil.rmtree(self.path, ignore_errors=True)  # a failed first run leaves no folder
         return False
 
     def _remove_stale_temporaries(self) -> None:

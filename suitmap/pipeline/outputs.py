@@ -36,6 +36,7 @@ from suitmap.writers.atomic import atomic_write_text
 from suitmap.writers.gis_styles import write_styles
 from suitmap.writers.labels import short_label
 from suitmap.writers.manifest import Manifest
+from suitmap.pipeline.publish import failure, publish, staging
 from suitmap.writers.netcdf import write_netcdf
 from suitmap.writers.report import layer_readme_lines, write_report
 
@@ -152,10 +153,12 @@ def _write_group(ds: xr.Dataset, folder: Path, group: str, kind: str, formats, m
 def write_outputs(layers, *, overwrite: bool = False, folder=None) -> Path:
     """Write computed :class:`~suitmap.pipeline.analysis.RunLayers` into ``output.dir``.
 
-    Every file is written under a temporary name and renamed; files that an
-    earlier run of the same run file listed and this one does not are removed;
-    ``manifest.json`` comes last.  ``folder`` is an open
-    :class:`~suitmap.pipeline.folder.OutputFolder` (``suitmap.run`` passes its own);
+    Every file is written into a staging folder first and the whole set moved
+    into place only when complete (:mod:`suitmap.pipeline.publish`): a failure
+    leaves the folder as it was.  Files that an earlier run of the same run file
+    listed and this one does not are removed; ``manifest.json`` comes last,
+    then ``report.html`` and ``methods.md`` are made from it.
+    ``folder`` is an open :class:`~suitmap.pipeline.folder.OutputFolder` (``suitmap.run`` passes its own);
     without it the folder is opened (and locked) here.
 
     Returns the path of ``manifest.json``.
@@ -172,8 +175,22 @@ def write_outputs(layers, *, overwrite: bool = False, folder=None) -> Path:
     history = _history(run.path)
     organism = layers.profile.organism.name
     before = folder.previous_outputs()
-    (root / "manifest.json").unlink(missing_ok=True)  # incomplete until written again
-    manifest = Manifest(root, attrs={**prov, **pv.run_summary(layers)})
+    stage = staging(root)  # every file is written here first (see suitmap.pipeline.publish)
+    manifest = Manifest(stage, attrs={**prov, **pv.run_summary(layers)})
+    try:
+        _write_all(layers, stage, formats, manifest, history, prov, organism)
+    except BaseException as exc:
+        err = failure(exc, root, stage)
+        if err is exc:
+            raise
+        raise err from exc
+    publish(stage, root, manifest, before, getattr(folder, "clear_on_publish", False))
+    return write_report(root)  # report.html and methods.md, listed in the manifest
+
+
+def _write_all(layers, root: Path, formats, manifest: Manifest, history: str, prov: dict,
+               organism: str) -> None:
+    run = layers.run
     for name, ds in layers.periods.items():
         files = layers.inputs.get(name, {})
         inputs = "; ".join(Path(f).name for role in ("tmin", "tmax") for f in files.get(role, []))
@@ -195,15 +212,6 @@ def write_outputs(layers, *, overwrite: bool = False, folder=None) -> Path:
     write_region_outputs(layers, root, manifest)  # regions.csv/.gpkg, ranges.csv ([regions], [ranges])
     readme = atomic_write_text(root / "README.txt", _readme_text(layers))
     manifest.add(readme, layer="readme", period_or_comparison="all", format="text")
-    listed = {e.path for e in manifest.entries}
-    for rel in before:  # outputs of an earlier configuration of this run file
-        if rel not in listed and ".." not in Path(rel).parts:
-            (root / rel).unlink(missing_ok=True)
-    for sub in root.iterdir():
-        if sub.is_dir() and sub.name != ".suitmap" and not any(sub.iterdir()):
-            sub.rmdir()
-    manifest.write(root / "manifest.json")
-    return write_report(root)  # report.html and methods.md, listed in the manifest
 
 
 def _readme_text(layers) -> str:

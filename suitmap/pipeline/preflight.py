@@ -83,3 +83,27 @@ def named_read_errors(label: str, files: Iterable[str]) -> Iterator[None]:
         first = (str(exc).splitlines() or [""])[0][:200]
         raise InputError(f"{label}: reading the climate data failed ({type(exc).__name__}: {first}) "
                          f"in one of {names}; check or re-download these files") from None
+
+
+def coverage_gap(base, other) -> str | None:
+    """Words for the message when ``other``'s grid misses cell centres of ``base``'s grid.
+
+    Those cells get no value in the snapped layers of ``other``; the count is a
+    lower bound (cells near the edge may lack neighbours for bilinear
+    interpolation too).  None when every centre is covered or the CRSs cannot
+    be compared.
+    """
+    try:
+        same = other.rio.crs == base.rio.crs
+        left, bottom, right, top = (other.rio.bounds() if same
+                                    else other.rio.transform_bounds(base.rio.crs, recalc=True))
+    except Exception:  # noqa: BLE001 - no CRS or no transform: nothing to say
+        return None
+    x, y = base["x"].values, base["y"].values
+    out_x = int(((x < left) | (x > right)).sum())
+    out_y = int(((y < bottom) | (y > top)).sum())
+    n = out_y * x.size + out_x * y.size - out_x * out_y
+    if n == 0:
+        return None
+    return (f"covers only part of the baseline grid: at least {n} of {x.size * y.size} baseline cells "
+            "lie outside it and have no value in its layers and changes")
