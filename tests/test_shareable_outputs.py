@@ -281,3 +281,13 @@ def test_alike_warnings_about_many_files_collapse_into_one_line(capsys):
     assert len(lines) == 2
     assert "climate/tmin_1991.nc" in lines[0] and "32 files" in lines[0]
     assert lines[1].endswith("3 cell-days had Tmin > Tmax")
+
+
+def test_citation_file_names_the_package_version():
+    from pathlib import Path
+
+    from suitmap._version import __version__
+
+    text = (Path(__file__).resolve().parents[1] / "CITATION.cff").read_text(encoding="utf-8")
+    assert text.startswith("cff-version: 1.2.0")
+    assert f'version: "{__version__}"' in text.splitlines()
