@@ -291,3 +291,55 @@ def test_citation_file_names_the_package_version():
     text = (Path(__file__).resolve().parents[1] / "CITATION.cff").read_text(encoding="utf-8")
     assert text.startswith("cff-version: 1.2.0")
     assert f'version: "{__version__}"' in text.splitlines()
+
+
+def test_three_panel_figure_shares_one_scale_and_fits_the_page():
+    from suitmap.writers.panels import panel_figure
+
+    base = add_event_status(demo_like())
+    scen = base.copy()
+    scen["first_generation_day"] = base["first_generation_day"] - 10.0
+    change = grid_layer("change_first_generation_day",
+                        (scen["first_generation_day"] - base["first_generation_day"]).values)
+    fig = panel_figure(base["first_generation_day"], scen["first_generation_day"], change,
+                       layer="first_generation_day",
+                       title="Karsvale ridge leaf-miner (invented): first generation day\n"
+                             "model-a_mid-century 2041-2070 minus baseline 1991-2020",
+                       panel_titles=("baseline 1991-2020", "model-a_mid-century 2041-2070",
+                                     "change"),
+                       never=(base["first_generation_day_status"] == 1,
+                              base["first_generation_day_status"] == 1))
+    assert _text_inside(fig) == []
+    maps = [ax for ax in fig.axes if ax.images]
+    assert len(maps) == 3
+    assert maps[0].images[0].norm.vmin == maps[1].images[0].norm.vmin  # one scale for both
+    assert maps[2].images[0].norm.vmin == -maps[2].images[0].norm.vmax  # change centred on 0
+    assert maps[2].images[0].get_cmap().name.startswith("RdBu_r")
+
+
+def test_check_of_a_batch_without_grid_mapping_warns_once(tmp_path):
+    import subprocess
+    import sys
+
+    from climate_fixtures import make_tmin_tmax, write_netcdf_daily
+    from conftest import write_profile, write_runfile
+
+    climate = tmp_path / "climate"
+    climate.mkdir()
+    for year in (2001, 2002, 2003, 2004):  # one file per year and variable: 8 files
+        days = 366 if year == 2004 else 365  # 2004 is a leap year
+        tmin, tmax = make_tmin_tmax(days, 4, 5, mean=12.0, seed=year)
+        write_netcdf_daily(climate / f"tmin_{year}.nc", tmin, var="tmin", role="tmin",
+                           start=f"{year}-01-01", crs=None)
+        write_netcdf_daily(climate / f"tmax_{year}.nc", tmax, var="tmax", role="tmax",
+                           start=f"{year}-01-01", crs=None)
+    run = write_runfile(tmp_path, write_profile(tmp_path), [
+        {"name": "baseline", "years": (2001, 2004), "tmin": "climate/tmin_*.nc",
+         "tmax": "climate/tmax_*.nc"}])
+    proc = subprocess.run([sys.executable, "-m", "suitmap", "check", str(run)],
+                          capture_output=True, text=True)
+    assert proc.returncode == 0, proc.stderr
+    lines = [ln for ln in proc.stderr.splitlines() if "no grid mapping" in ln]
+    assert len(lines) == 2, proc.stderr  # one per variable (their texts differ), not one per file
+    assert "4 files" in lines[0] and "tmin_2001.nc" in lines[0]
+    assert "4 files" in lines[1] and "tmax_2001.nc" in lines[1]

@@ -141,6 +141,31 @@ def _write_group(ds: xr.Dataset, folder: Path, group: str, kind: str, formats, m
         manifest.add(p, layer="all", period_or_comparison=group, format="netcdf")
 
 
+def _write_panels(layers, ds, folder: Path, organism: str, info: dict) -> list[Path]:
+    from suitmap.writers.panels import plot_panels
+
+    base = layers.periods.get(info["baseline"])
+    scen = layers.periods.get(info["scenario"])
+    if base is None or scen is None:
+        return []
+    base, scen = add_event_status(base), add_event_status(scen)
+    out = []
+    for name in base.data_vars:
+        name = str(name)
+        if f"change_{name}" not in ds or name not in scen:
+            continue
+        never = None
+        if is_event_day_layer(name) and status_name(name) in base:
+            never = (base[status_name(name)] == 1, scen[status_name(name)] == 1)
+        title = pv.figure_title(organism, short_label(name), "comparison", info)
+        out.append(plot_panels(
+            base[name], scen[name], ds[f"change_{name}"], folder / f"panels_{name}.png",
+            layer=name, title=title, caution=DEFAULT_CAUTION, never=never,
+            panel_titles=(f"{info['baseline']} {info['baseline_years']}",
+                          f"{info['scenario']} {info['scenario_years']}", "change")))
+    return out
+
+
 def write_outputs(layers, *, overwrite: bool = False, folder=None) -> Path:
     """Write computed :class:`~suitmap.pipeline.analysis.RunLayers` into ``output.dir``.
 
@@ -175,8 +200,13 @@ def write_outputs(layers, *, overwrite: bool = False, folder=None) -> Path:
         inputs = "; ".join(f"{k}: " + ", ".join(Path(f).name for f in v.get("tmin", []) + v.get("tmax", []))
                            for k, v in layers.inputs.items()
                            if k in (ds.attrs.get("baseline"), ds.attrs.get("scenario")))
+        info = pv.group_info(layers, name, "comparison", ds)
         _write_group(ds, root / name, name, "comparison", formats, manifest, history, prov,
-                     inputs, organism, pv.group_info(layers, name, "comparison", ds))
+                     inputs, organism, info)
+        if "png" in formats:  # baseline | scenario | change, one figure per layer
+            for p in _write_panels(layers, ds, root / name, organism, info):
+                manifest.add(p, layer=p.stem.replace("panels_", "", 1),
+                             period_or_comparison=name, format="png")
     for name, ds in layers.ensembles.items():
         ds = ds.assign_attrs(agreement_level=run.output.agreement_level)
         inputs = "models: " + str(ds.attrs.get("models", ""))
