@@ -131,6 +131,23 @@ def _csv_section(root: Path) -> str:
     return "\n".join(parts)
 
 
+def _markdown_lite(text: str) -> str:
+    """The methods paragraph as HTML: headings, paragraphs and list items only."""
+    out, items = [], []
+    for block in text.split("\n\n"):
+        block = block.strip()
+        if not block or block == "# Methods":
+            continue
+        if block.startswith("## "):
+            out.append(f"<h3>{_esc(block[3:])}</h3>")
+        elif block.startswith("- "):
+            items = [ln[2:] for ln in block.splitlines() if ln.startswith("- ")]
+            out.append("<ul>" + "".join(f"<li>{_esc(i)}</li>" for i in items) + "</ul>")
+        else:
+            out.append(f"<p>{_esc(block)}</p>")
+    return "\n".join(out)
+
+
 def report_html(root: str | os.PathLike, manifest: dict) -> str:
     """The report page of the output folder *root* with manifest *manifest*."""
     root = Path(root)
@@ -176,6 +193,8 @@ def report_html(root: str | os.PathLike, manifest: dict) -> str:
                    for name in sorted({e["layer"] for e in entries if e["format"] == "geotiff"})],
                   "methods"),
            "<p>" + _esc("; ".join(f"{k}: {v}" for k, v in methods.items())) + "</p>",
+           "<h2 id=\"paragraph\">Methods paragraph (methods.md)</h2>",
+           _markdown_lite(methods_text(manifest)),
            "<h2 id=\"maps\">Maps</h2>", _maps_section(root, entries)]
     tables = _csv_section(root)
     if tables:
