@@ -34,6 +34,14 @@ def _cmd_demo(args) -> int:
 
 
 def _cmd_run(args) -> int:
+    from suitmap.pipeline.finished import finished_manifest
+
+    done = None if args.overwrite else finished_manifest(args.runfile)
+    if done is not None:
+        if not args.quiet:
+            print(f"nothing to do: the outputs in {done.parent} are up to date with {args.runfile} "
+                  "(no file written; --overwrite redoes them)")
+        return 0
     from suitmap.pipeline.analysis import run
 
     manifest = run(args.runfile, overwrite=args.overwrite, progress=_progress_wanted(args),
@@ -55,9 +63,14 @@ def _cmd_report(args) -> int:
 
 
 def _cmd_check(args) -> int:
+    from suitmap.config.runfile import load_run
     from suitmap.pipeline.analysis import check_run
 
-    run, profile, opened = check_run(args.runfile)
+    loaded = load_run(args.runfile)
+    if loaded.inventory:  # before reading the files: what the scenario sets found and lack
+        print("scenario sets (model × pathway × period):")
+        print("\n".join(f"  {line}" for line in loaded.inventory), flush=True)
+    run, profile, opened = check_run(loaded)
     print(f"run file: {run.path}")
     print(f"profile:  {run.profile_path} ({profile.organism.name})")
     print(f"periods:  {len(opened)} (1 baseline, {len(opened) - 1} scenarios)")

@@ -72,7 +72,7 @@ def test_ensemble_of_three_models_with_known_offsets(tmp_path):
                                rtol=1e-6)
     # every model warms every cell: full agreement, robust everywhere
     assert (ens["model_agreement_change_degree_days"].values == 1).all()
-    assert (ens["robust_change_change_degree_days"].values == 1).all()
+    assert (ens["robust_change_degree_days"].values == 1).all()
     assert ens.attrs["n_models"] == 3
 
 

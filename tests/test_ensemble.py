@@ -57,37 +57,78 @@ def test_median_and_percentiles_follow_hyndman_fan_type7(n):
         float(np.median(vals[:, 0, 0].astype("float32"))), abs=1e-4)
 
 
+NONE, ROBUST, CONFLICT = 0, 1, 2  # codes of ROBUST_CHANGE_CLASSES, written out here
+
+
 def test_model_agreement_and_robust_change_by_counting():
-    # per cell: changes of 5 models; expected agreement counted by hand from the definition
+    # per cell: changes of 5 models; agreement (share with the median's sign) and class counted by hand.
+    # Rule: IPCC AR6 WGI Atlas simple approach (Gutierrez et al. 2021, Cross-Chapter Box Atlas.1):
+    # robust where >= 80 % of the models share the sign; "conflicting" (suitmap's definition): the
+    # minority sign alone holds more than 20 % of the models.
     cells = {
-        (0, 0): ([1, 2, -1, 3, 0], 3 / 5, 0),    # median 1: signs +,+,-,+,0 -> 3 agree; 0.6 < 2/3
-        (0, 1): ([1, 1, 1, -1, 2], 4 / 5, 1),    # median 1: 4 agree -> robust
-        (0, 2): ([0, 0, 0, 1, -1], 3 / 5, 0),    # median 0: only zeros agree; zero median never robust
-        (1, 0): ([-2, -3, -1, -5, -4], 1.0, 1),  # all negative
-        (1, 1): ([0, 0, 0, 0, 0], 1.0, 0),       # no change anywhere: agreement 1, not robust
-        (1, 2): ([2, 2, -2, -2, 1], 3 / 5, 0),
+        (0, 0): ([1, 2, -1, 3, 0], 3 / 5, NONE),     # 3 of 5 positive: not robust; 1 negative <= 20 %
+        (0, 1): ([1, 1, 1, -1, 2], 4 / 5, ROBUST),   # 4 of 5 positive: robust at 80 %
+        (0, 2): ([0, 0, 0, 1, -1], 3 / 5, NONE),     # mostly no change: no robust signal
+        (1, 0): ([-2, -3, -1, -5, -4], 1.0, ROBUST),  # all negative
+        (1, 1): ([0, 0, 0, 0, 0], 1.0, NONE),        # no change anywhere: zero supports no sign
+        (1, 2): ([2, 2, -2, -2, 1], 3 / 5, CONFLICT),  # 3 up, 2 down: 40 % on the minority side
     }
     vals = np.zeros((5, 2, 3))
     for (j, i), (v, _, _) in cells.items():
         vals[:, j, i] = v
     ens = ensemble_stats({f"m{k}": member(vals[k]) for k in range(5)}).compute()
     agree = ens["model_agreement_change_degree_days"].values
-    robust = ens["robust_change_change_degree_days"].values
+    robust = ens["robust_change_degree_days"].values
     for (j, i), (_, a, r) in cells.items():
         assert agree[j, i] == pytest.approx(a), (j, i)
         assert robust[j, i] == r, (j, i)
     assert robust.dtype == np.uint8
-    assert ens["robust_change_change_degree_days"].encoding["_FillValue"] == 255
+    assert ens["robust_change_degree_days"].encoding["_FillValue"] == 255
+    assert not any("change_change" in v for v in ens.data_vars)
+    assert ens["robust_change_degree_days"].attrs["flag_meanings"] == \
+        "no_robust_signal robust conflicting_signals"
+    assert ens["robust_change_degree_days"].attrs["agreement_level"] == 0.8
+    # five models: no small-ensemble caution
+    assert "small_ensemble_caution" not in ens.attrs
     # hatch where models disagree: agreement below the level
-    mask = hatch_mask(ens["model_agreement_change_degree_days"], 2 / 3).values
-    np.testing.assert_array_equal(mask, agree < 2 / 3)
+    mask = hatch_mask(ens["model_agreement_change_degree_days"], 0.8).values
+    np.testing.assert_array_equal(mask, agree < 0.8)
 
 
-def test_four_of_six_reach_two_thirds():
+@pytest.mark.parametrize("signs, level, expected", [
+    ([1, 1, 1, -1, -1], 0.8, CONFLICT),     # 3 of 5 agree: not robust at 80 %
+    ([1, 1, 1, 0, 0], 0.8, NONE),           # 3 of 5, the rest no change
+    ([1, 1, 1, 1, -1], 0.8, ROBUST),        # 4 of 5
+    ([1, 1, 1, -1, -1], 0.6, ROBUST),       # the level is configurable: 3 of 5 reach 0.6
+    ([1, 1, -1], 0.8, CONFLICT),            # three models: 2 of 3 is not robust at 80 %
+    ([1, 1, 1], 0.8, ROBUST),
+    ([1, 1, 1, 1, 1, 1, 1, -1, -1, 0], 0.8, NONE),    # 7 up, 2 down (not > 20 %), 1 none
+    ([1, 1, 1, 1, 1, 1, 1, -1, -1, -1], 0.8, CONFLICT),  # 7 up, 3 down (> 20 %)
+    ([0, 0, 0, 0, 0], 0.8, NONE),           # zero change everywhere: no robust signal
+])
+def test_robustness_classes_on_constructed_cases(signs, level, expected):
+    vals = np.array(signs, dtype=float)[:, None, None] * np.ones((len(signs), 1, 1))
+    ens = ensemble_stats({f"m{k}": member(vals[k]) for k in range(len(signs))},
+                         agreement_level=level).compute()
+    assert ens["robust_change_degree_days"].values[0, 0] == expected
+
+
+def test_four_of_six_reach_two_thirds_whatever_the_rounding():
     vals = np.array([1, 1, 1, 1, -1, -1], dtype=float)[:, None, None] * np.ones((6, 1, 1))
-    ens = ensemble_stats({f"m{k}": member(vals[k]) for k in range(6)}).compute()
+    ens = ensemble_stats({f"m{k}": member(vals[k]) for k in range(6)}, agreement_level=2 / 3).compute()
     assert ens["model_agreement_change_degree_days"].values[0, 0] == pytest.approx(4 / 6)
-    assert ens["robust_change_change_degree_days"].values[0, 0] == 1
+    assert ens["robust_change_degree_days"].values[0, 0] == ROBUST
+    # at the default 0.8 the same cell is contested: 2 of 6 (> 20 %) on the other side
+    dflt = ensemble_stats({f"m{k}": member(vals[k]) for k in range(6)}).compute()
+    assert dflt["robust_change_degree_days"].values[0, 0] == CONFLICT
+
+
+def test_small_ensemble_caution_and_bad_level():
+    ens = ensemble_stats({"a": member([[1.0]]), "b": member([[2.0]]), "c": member([[4.0]])})
+    assert "3 climate models" in ens.attrs["small_ensemble_caution"]
+    assert all("small_ensemble_caution" in ens[v].attrs for v in ens.data_vars)
+    with pytest.raises(InputError, match="above 0.5"):
+        ensemble_stats({"a": member([[1.0]]), "b": member([[2.0]])}, agreement_level=0.5)
 
 
 def test_zero_tolerance_counts_small_changes_as_zero():
@@ -96,10 +137,10 @@ def test_zero_tolerance_counts_small_changes_as_zero():
     loose = ensemble_stats({f"m{k}": member(vals[k]) for k in range(5)}, zero_tol=0.05).compute()
     # median 0.02 > 0: with tol 0 the positive models agree (0.02, 0.01, 2, 3) -> 4/5
     assert strict["model_agreement_change_degree_days"].values[0, 0] == pytest.approx(0.8)
-    assert strict["robust_change_change_degree_days"].values[0, 0] == 1
+    assert strict["robust_change_degree_days"].values[0, 0] == ROBUST
     # with tol 0.05 the median counts as no change: 3 models are "zero" -> 3/5, not robust
     assert loose["model_agreement_change_degree_days"].values[0, 0] == pytest.approx(0.6)
-    assert loose["robust_change_change_degree_days"].values[0, 0] == 0
+    assert loose["robust_change_degree_days"].values[0, 0] == NONE
 
 
 def test_cell_missing_in_any_model_is_missing():
@@ -109,7 +150,7 @@ def test_cell_missing_in_any_model_is_missing():
     for name in ("ensemble_median", "ensemble_p10", "ensemble_p90", "model_agreement"):
         v = ens[f"{name}_change_degree_days"].values[0]
         assert np.isnan(v[1]) and np.isfinite(v[[0, 2]]).all(), name
-    assert ens["robust_change_change_degree_days"].values[0, 1] == 255
+    assert ens["robust_change_degree_days"].values[0, 1] == 255
 
 
 def test_layers_attrs_and_class_layers_skipped():
@@ -124,7 +165,7 @@ def test_layers_attrs_and_class_layers_skipped():
     assert med.attrs["n_models"] == 3 and med.attrs["models"] == "a; b; c"
     assert ens["ensemble_p90_change_degree_days"].attrs["percentile"] == 90
     assert ens["model_agreement_change_degree_days"].attrs["units"] == "1"
-    assert ens["robust_change_change_degree_days"].attrs["flag_values"] == [0, 1]
+    assert ens["robust_change_degree_days"].attrs["flag_values"] == [0, 1, 2]
     assert ens.attrs["n_models"] == 3 and ens.rio.crs.to_epsg() == 4326
     with pytest.raises(InputError, match="class layer"):
         ensemble_stats({"a": member([[1.0]]), "b": member([[2.0]])}, layers=["change_class"])

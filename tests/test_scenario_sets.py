@@ -40,7 +40,8 @@ def test_expansion_by_model_pathway_and_period(tmp_path):
     assert "alpha_lowpath_mid-century" in names and "beta_highpath_end-century" in names
     s = next(s for s in r.scenarios if s.name == "beta_lowpath_end-century")
     assert (s.model, s.pathway, s.period, s.years) == ("beta", "lowpath", "end-century", (2071, 2100))
-    assert len(s.tmin.patterns) == 2 and all("tasmin" in p for p in s.tmin.patterns)
+    # the names end in year ranges: each file serves the period its years overlap
+    assert s.tmin.patterns == (str(tmp_path / "cm/beta_lowpath_tasmin_2071-2100.nc"),)
     assert s.tmin.variable == "tasmin"
 
 

@@ -89,6 +89,9 @@ def files_in(folder) -> list[str]:
     ("suitability", "cividis"), ("change_suitability", "RdBu_r"),
     ("change_degree_days", "RdBu_r"), ("change_generations", "RdBu_r"),
     ("limiting_factor", styles.CATEGORICAL), ("change_class", styles.CATEGORICAL),
+    # ensemble change maps and model bias are signed differences: the same diverging scale
+    ("ensemble_median_change_degree_days", "RdBu_r"), ("ensemble_p90_change_suitability", "RdBu_r"),
+    ("model_bias_generations", "RdBu_r"), ("ensemble_median_suitability", "cividis"),
 ])
 def test_colormap_per_layer_kind(layer, expected):
     assert styles.colormap_name(layer) == expected

@@ -47,9 +47,10 @@ import xarray as xr
 from pyproj import CRS
 
 from suitmap.climate.time_axis import _as_dates, _days, _iso, _ymd, select_years  # noqa: F401 (re-exported)
-from suitmap.climate.time_axis import _check_daily, _check_monthly, _drop_overlap, _is_monthly
+from suitmap.climate.time_axis import _check_daily, _check_monthly, _drop_overlap, _is_monthly, check_order
 from suitmap.climate.conventions import (_CALENDARS, _CFTIME_TYPES, _ISO_DATE, ROLES,  # noqa: F401
                                          _canonical_calendar, _canonical_units, _to_celsius)
+from suitmap.climate import plausibility
 from suitmap.climate.geotiff import _open_geotiff
 from suitmap.climate.grid import _TOL, _crs_text, _grid, check_same_grid  # noqa: F401
 from suitmap.errors import InputError, SuitmapWarning
@@ -59,6 +60,7 @@ __all__ = ["COMMON_NAMES", "DEFAULT_CHUNKS", "open_climate", "resolve_paths"]
 DEFAULT_CHUNKS = {"y": 256, "x": 256}
 NETCDF_SUFFIXES = (".nc", ".nc4", ".netcdf", ".cdf")
 GEOTIFF_SUFFIXES = (".tif", ".tiff")
+ZARR_SUFFIXES = (".zarr",)   # a Zarr store: a folder, read with xarray's zarr engine
 COMMON_NAMES = {
     "tmin": ("tasmin", "tmin", "tn", "mn2t", "mn2t24", "t2m_min", "t2min", "tmn",
              "minimum_temperature", "min_temperature", "temperature_min", "air_temperature_min"),
@@ -88,7 +90,8 @@ def resolve_paths(pattern, base_dir=None, *, what: str = "input") -> list[Path]:
     for pat in patterns:
         p = Path(os.fspath(pat)).expanduser()
         full = p if p.is_absolute() else base / p
-        hits = [Path(h) for h in glob.glob(str(full), recursive=True) if Path(h).is_file()]
+        hits = [Path(h) for h in glob.glob(str(full), recursive=True)
+                if Path(h).is_file() or _is_zarr(Path(h))]
         if not hits:
             where = "" if p.is_absolute() else f" (looked in {base})"
             raise InputError(f"no {what} file matches '{os.fspath(pat)}'{where}; "
@@ -142,11 +145,23 @@ def _aligned(file_chunk, target: int, size: int) -> int:
     return int(min(size, file_chunk * max(1, target // file_chunk)))
 
 
+def _is_zarr(path: Path) -> bool:
+    return path.suffix.lower() in ZARR_SUFFIXES and path.is_dir()
+
+
 def _open_netcdf(path: Path, role: str, variable, cy, cx, file_chunks: bool = False) -> dict:
+    """A NetCDF file or a Zarr store (the same CF conventions, another container)."""
+    zarr = _is_zarr(path)
     try:
-        ds = xr.open_dataset(path, engine="netcdf4", decode_coords="all", mask_and_scale=True, cache=False)
-    except Exception as exc:  # netCDF4/xarray raise many kinds
-        raise InputError(f"cannot read {path} as NetCDF ({exc}); check the file") from exc
+        if zarr:
+            ds = xr.open_dataset(path, engine="zarr", decode_coords="all", mask_and_scale=True,
+                                 chunks=None, consolidated=(path / ".zmetadata").is_file())
+        else:
+            ds = xr.open_dataset(path, engine="netcdf4", decode_coords="all", mask_and_scale=True,
+                                 cache=False)
+    except Exception as exc:  # netCDF4/zarr/xarray raise many kinds
+        kind = "a Zarr store" if zarr else "NetCDF"
+        raise InputError(f"cannot read {path} as {kind} ({exc}); check the file") from exc
     name = _pick_variable(ds, role, variable, path)
     da = ds[name]
     where = f"{path.name}, variable '{name}'"
@@ -169,7 +184,8 @@ def _open_netcdf(path: Path, role: str, variable, cy, cx, file_chunks: bool = Fa
     cal = tcoord.encoding.get("calendar") or (
         tcoord.values.flat[0].calendar if tcoord.dtype == object else "standard")
     if file_chunks:  # follow the file's own chunks: no read touches a file chunk twice
-        fc = dict(zip(da.dims, da.encoding.get("chunksizes") or (None,) * da.ndim))
+        sizes = da.encoding.get("chunksizes") or da.encoding.get("chunks")   # NetCDF or Zarr
+        fc = dict(zip(da.dims, sizes or (None,) * da.ndim))
         da = da.chunk({tdim: _aligned(fc.get(tdim), 366, da.sizes[tdim]),
                        ydim: _aligned(fc.get(ydim), cy, da.sizes[ydim]),
                        xdim: _aligned(fc.get(xdim), cx, da.sizes[xdim])})
@@ -239,7 +255,8 @@ def _axis_attrs(crs: CRS) -> dict:
 
 def open_climate(paths, role: str, *, variable: str | None = None, chunks: dict | None = None,
                  label: str = "", allow_monthly: bool = False,
-                 file_chunks: bool = False) -> xr.DataArray:
+                 file_chunks: bool = False, check_values: bool = False,
+                 accept_implausible: bool = False) -> xr.DataArray:
     """Open daily ``tmin`` or ``tmax`` from NetCDF/GeoTIFF files as one lazy °C array.
 
     Parameters
@@ -263,6 +280,12 @@ def open_climate(paths, role: str, *, variable: str | None = None, chunks: dict 
         Chunk along time too, following the NetCDF files' own chunks (about a
         year per chunk, spatial chunks a multiple of the file's near ``chunks``)
         instead of one chunk for the whole time axis; for streaming pipelines.
+    check_values : bool
+        Read every file once to refuse impossible or suspicious temperatures
+        (:mod:`suitmap.climate.plausibility`; one streamed pass per file).
+        Off by default (the result stays fully lazy); ``check`` and ``run`` turn it on.
+    accept_implausible : bool
+        Let the *suspicious* values of that check pass (never the impossible ones).
 
     Returns
     -------
@@ -284,13 +307,24 @@ def open_climate(paths, role: str, *, variable: str | None = None, chunks: dict 
     pieces = []
     for path in files:
         suffix = path.suffix.lower()
-        if not path.is_file():
+        if not (path.is_file() or _is_zarr(path)):
             raise InputError(f"{label or role} file {path} does not exist; check the path")
-        if suffix not in NETCDF_SUFFIXES + GEOTIFF_SUFFIXES:
-            raise InputError(f"{path.name}: unknown file type '{suffix}'; use NetCDF (.nc) or GeoTIFF (.tif)")
-        p = (_open_netcdf(path, role, variable, cy, cx, file_chunks) if suffix in NETCDF_SUFFIXES
-             else _open_geotiff(path, cy, cx))
+        if suffix not in NETCDF_SUFFIXES + GEOTIFF_SUFFIXES + ZARR_SUFFIXES:
+            raise InputError(f"{path.name}: unknown file type '{suffix}'; use NetCDF (.nc), "
+                             "GeoTIFF (.tif) or a Zarr store (.zarr)")
+        p = (_open_netcdf(path, role, variable, cy, cx, file_chunks)
+             if suffix in NETCDF_SUFFIXES + ZARR_SUFFIXES else _open_geotiff(path, cy, cx))
+        raw = p["da"]
+        check_order(raw[p["dims"][0]].values, p["where"])
         p["da"], p["crs"] = _normalise(p)
+        plausibility.check_coordinates(raw[p["dims"][2]].values, raw[p["dims"][1]].values,
+                                       p["crs"].is_geographic, p["where"])
+        if check_values:
+            enc = raw.encoding
+            integer = np.issubdtype(np.dtype(enc.get("dtype", raw.dtype)), np.integer) and \
+                "scale_factor" not in enc
+            plausibility.check_values(raw, _canonical_units(p["units"], p["where"]), p["where"],
+                                      stored_integer=integer, accept_suspicious=accept_implausible)
         pieces.append(p)
     p0, crs = pieces[0], pieces[0]["crs"]
     for p in pieces[1:]:

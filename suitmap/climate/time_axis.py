@@ -17,7 +17,7 @@ import xarray as xr
 
 from suitmap.errors import InputError, SuitmapWarning
 
-__all__ = ["select_years"]
+__all__ = ["check_order", "check_same_calendar", "select_years"]
 
 _TOL = 1e-3  # tolerance on a time step, as a fraction of a day
 
@@ -47,6 +47,28 @@ def _drop_overlap(da: xr.DataArray, what: str) -> xr.DataArray:
                       "one file; the first file's values are kept", SuitmapWarning, stacklevel=3)
         da = da.isel(time=np.flatnonzero(keep))
     return da
+
+
+def check_order(times: np.ndarray, what: str) -> None:
+    """Refuse a file whose time axis runs backwards or is out of order (named plainly)."""
+    if times.size < 2:
+        return
+    steps = np.diff(_days(times))
+    if np.all(steps < 0):
+        raise InputError(f"{what}: the time axis runs backwards ({_iso(times[0])} first, "
+                         f"{_iso(times[-1])} last); store the days in increasing order")
+    if np.any(steps < 0):
+        i = int(np.argmax(steps < 0))
+        raise InputError(f"{what}: time steps out of order ({_iso(times[i])} is followed by "
+                         f"{_iso(times[i + 1])}); sort the file by time")
+
+
+def check_same_calendar(tmin: xr.DataArray, tmax: xr.DataArray, what: str) -> None:
+    """Refuse a Tmin/Tmax pair on different calendars (their days cannot be paired)."""
+    a, b = tmin.attrs.get("calendar"), tmax.attrs.get("calendar")
+    if a and b and a != b:
+        raise InputError(f"{what}: tmin uses the {a} calendar and tmax the {b} calendar; "
+                         "give both on one calendar")
 
 
 def _is_monthly(times: np.ndarray) -> bool:

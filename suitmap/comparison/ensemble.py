@@ -8,25 +8,32 @@ on one grid, and returns for every numeric layer ``L``:
   numpy's ``"linear"`` method, Hyndman & Fan (1996) type 7: with the models'
   values sorted, x₍₁₎ ≤ … ≤ x₍ₙ₎, and h = (n − 1)p + 1, Q(p) = x₍⌊h⌋₎ + (h − ⌊h⌋)
   (x₍⌊h⌋+1₎ − x₍⌊h⌋₎); the median is Q(0.5), the usual median.
-* for change layers (``change_<layer>``) also ``model_agreement_<L>``: the fraction
-  of models whose change has the same *sign* as the ensemble-median change, and
-  ``robust_change_<L>``: 1 where ``model_agreement >= agreement_level`` and the
-  median change is not zero, 0 otherwise, 255 where missing.
+* for change layers (``change_<L>``) also ``model_agreement_change_<L>``: the
+  fraction of models whose change has the same *sign* as the ensemble-median
+  change, and ``robust_change_<L>`` (one ``change_`` only): ``robust``,
+  ``no_robust_signal`` or ``conflicting_signals`` by the rule of
+  :mod:`suitmap.comparison.robustness` (IPCC AR6 Atlas simple approach: at
+  least ``agreement_level``, default 0.8, of all models share the sign),
+  255 where missing.
 
 Rules:
 
 * **Sign and zeros.**  A change counts as zero when ``|change| <= zero_tol``
   (default 0: only exact zeros); its sign is then 0, and sign 0 agrees only with
   sign 0.  So where the median change is zero, ``model_agreement`` is the
-  fraction of models whose change is zero too, and the change is never robust.
+  fraction of models whose change is zero too.  A zero change supports neither
+  sign in the robustness rule.
 * **Missing cells.**  A cell missing (NaN) in *any* member is missing in every
   ensemble layer: a statistic over fewer models than ``n_models`` would mix
   ensembles of different sizes on one map.
 * **Class layers** (a ``flag_values`` attribute or a ``uint8`` dtype, e.g.
   ``limiting_factor``, ``change_class``) are skipped: a median of class codes
   has no meaning.
-* ``agreement_level`` is compared with a slack of 1e-12 so that, e.g., 4 of 6
-  models reach the default 2/3 whatever the rounding.
+* ``agreement_level`` is compared with a slack of 1e-12 so that, e.g., 4 of 5
+  models reach the default 0.8 whatever the rounding.
+* **Small ensembles.**  With fewer than five models every layer and the dataset
+  carry a ``small_ensemble_caution`` attribute
+  (:func:`suitmap.comparison.robustness.small_ensemble_caution`).
 
 CF has no ``percentile`` cell method (CF conventions, Appendix E), so the median
 gets ``cell_methods`` ``"... realization: median"`` while the percentile layers
@@ -48,8 +55,10 @@ import numpy as np
 import pandas as pd
 import xarray as xr
 
+from suitmap.comparison.robustness import (DEFAULT_AGREEMENT_LEVEL, robust_change_name,
+                                           robustness_classes, small_ensemble_caution)
 from suitmap.errors import GridMismatch, InputError, SuitmapWarning
-from suitmap.layers.metadata import MISSING_CLASS
+from suitmap.layers.metadata import MISSING_CLASS, ROBUST_CHANGE_CLASSES
 from suitmap.spatial.regrid import grid_description, grids_match
 
 __all__ = ["ENSEMBLE_LAYER_ATTRS", "PERCENTILE_METHOD", "ensemble_layer_attrs", "ensemble_stats",
@@ -88,10 +97,13 @@ ENSEMBLE_LAYER_ATTRS: dict[str, dict[str, Any]] = {
     },
     "robust_change": {
         "units": "1",
-        "long_name": "robust change: at least the agreement level of the {n} climate models share the "
-                     "sign of a non-zero ensemble-median change of: {long_name}",
-        "flag_values": [0, 1],
-        "flag_meanings": "not_robust robust",
+        "long_name": "robustness of the change across {n} climate models (robust: at least the "
+                     "agreement level of all models share one non-zero sign; conflicting signals: "
+                     "the minority sign alone denies that) of: {long_name}",
+        "flag_values": list(range(len(ROBUST_CHANGE_CLASSES))),
+        "flag_meanings": " ".join(ROBUST_CHANGE_CLASSES),
+        "robustness_rule": "IPCC AR6 WGI Atlas simple approach (Gutierrez et al. 2021, "
+                           "Cross-Chapter Box Atlas.1); conflicting signals: suitmap's definition",
     },
 }
 _PREFIXES = tuple(ENSEMBLE_LAYER_ATTRS)
@@ -141,7 +153,8 @@ def _choose_layers(members: dict[str, xr.Dataset], layers) -> list[str]:
     return chosen
 
 
-def ensemble_stats(members: dict[str, xr.Dataset], *, layers=None, agreement_level: float = 2 / 3,
+def ensemble_stats(members: dict[str, xr.Dataset], *, layers=None,
+                   agreement_level: float = DEFAULT_AGREEMENT_LEVEL,
                    zero_tol: float = 0.0) -> xr.Dataset:
     """Median, 10th and 90th percentiles and sign agreement across climate models.
 
@@ -155,7 +168,8 @@ def ensemble_stats(members: dict[str, xr.Dataset], *, layers=None, agreement_lev
         present in all members (layers missing from some member are left out
         with a warning).
     agreement_level : float
-        Model agreement (0–1) at or above which a non-zero median change is robust.
+        Share of all models (above 0.5, at most 1) that must share the sign of
+        a change for it to be robust (default 0.8, IPCC AR6 Atlas).
     zero_tol : float
         Changes with ``|change| <= zero_tol`` count as no change (sign 0).
 
@@ -164,7 +178,8 @@ def ensemble_stats(members: dict[str, xr.Dataset], *, layers=None, agreement_lev
     xarray.Dataset
         ``ensemble_median_<L>``, ``ensemble_p10_<L>``, ``ensemble_p90_<L>``
         (float32) for every layer, plus ``model_agreement_<L>`` (float32) and
-        ``robust_change_<L>`` (uint8, 255 = missing) for change layers; lazy if
+        ``robust_change_<L>`` (uint8 classes, 255 = missing) for change layers
+        ``change_<L>``; lazy if
         the members are.  Attributes ``n_models`` and ``models`` on every layer
         and on the dataset.
 
@@ -185,8 +200,9 @@ def ensemble_stats(members: dict[str, xr.Dataset], *, layers=None, agreement_lev
     members = {str(k): v for k, v in members.items()}
     if len(names) < 2:
         raise InputError(f"ensemble: {len(names)} climate model given; ensemble statistics need at least two")
-    if not 0.0 <= agreement_level <= 1.0:
-        raise InputError(f"ensemble: agreement_level {agreement_level} is not between 0 and 1")
+    if not 0.5 < agreement_level <= 1.0:
+        raise InputError(f"ensemble: agreement_level {agreement_level} must be above 0.5 and at most 1 "
+                         "(0.8 is the IPCC AR6 Atlas level)")
     if zero_tol < 0:
         raise InputError(f"ensemble: zero_tol {zero_tol} is negative; give 0 or a positive tolerance")
     ref = members[names[0]]
@@ -219,18 +235,21 @@ def ensemble_stats(members: dict[str, xr.Dataset], *, layers=None, agreement_lev
             s_med = _sign(median, zero_tol)
             agree = (_sign(stack, zero_tol) == s_med).sum("realization") / n
             agree = agree.where(present)
-            robust = xr.where((agree >= agreement_level - _SLACK) & (s_med != 0), 1, 0)
-            robust = xr.where(present, robust, MISSING_CLASS).astype(np.uint8)
+            robust = robustness_classes(stack, agreement_level, zero_tol)
+            rname = robust_change_name(layer)
             out[f"model_agreement_{layer}"] = agree.astype(np.float32)
             out[f"model_agreement_{layer}"].attrs = dict(ensemble_layer_attrs("model_agreement", base_attrs, n),
                                                          zero_tol=zero_tol)
-            out[f"robust_change_{layer}"] = robust
-            out[f"robust_change_{layer}"].attrs = dict(ensemble_layer_attrs("robust_change", base_attrs, n),
-                                                       agreement_level=agreement_level, zero_tol=zero_tol)
-            out[f"robust_change_{layer}"].encoding["_FillValue"] = MISSING_CLASS
+            out[rname] = robust
+            out[rname].attrs = dict(ensemble_layer_attrs("robust_change", base_attrs, n),
+                                    agreement_level=agreement_level, zero_tol=zero_tol)
+            out[rname].encoding["_FillValue"] = MISSING_CLASS
     ds = xr.Dataset(out)
+    caution = small_ensemble_caution(n)
     for name in ds.data_vars:
         ds[name].attrs.update(n_models=n, models=model_list)
+        if caution:
+            ds[name].attrs["small_ensemble_caution"] = caution
         if name.startswith("robust_change_"):
             ds[name].encoding["_FillValue"] = MISSING_CLASS
     for c in ("x", "y"):
@@ -243,6 +262,8 @@ def ensemble_stats(members: dict[str, xr.Dataset], *, layers=None, agreement_lev
     ds.attrs.update(n_models=n, models=model_list, ensemble_dimension="realization",
                     percentile_method=PERCENTILE_METHOD, agreement_level=agreement_level,
                     missing_rule="a cell missing in any model is missing in the ensemble")
+    if caution:
+        ds.attrs["small_ensemble_caution"] = caution
     return ds
 
 
@@ -253,7 +274,7 @@ def _same(a, b) -> bool:
         return False
 
 
-def hatch_mask(agreement: xr.DataArray, level: float = 2 / 3) -> xr.DataArray:
+def hatch_mask(agreement: xr.DataArray, level: float = DEFAULT_AGREEMENT_LEVEL) -> xr.DataArray:
     """Cells where the models disagree: ``model_agreement < level``.
 
     Parameters

@@ -4,6 +4,7 @@
     profile        organism profile: thresholds, method, survival, season, rate curve
     runfile        run file: periods, scenarios, outputs, compute settings
     scenario_sets  ``[[scenario_set]]`` templates expanded into scenarios
+    set_reference  a set's historical period, change_against and delta keys
     library/       the bundled INVENTED demonstration profiles
 
 Imports no xarray or dask: a run file can be checked without the climate stack.

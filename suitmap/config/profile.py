@@ -9,6 +9,7 @@ reading the file.
 
 from __future__ import annotations
 
+import math
 import re
 from dataclasses import asdict, dataclass, field
 from pathlib import Path
@@ -128,11 +129,39 @@ def _check_table(raw: dict, table: str, where: str) -> dict:
         types, _ = schema[key]
         if isinstance(value, bool) or not isinstance(value, types):
             kind = "a number" if float in types else "a string"
-            raise ProfileError(f"{where}: {table}.{key} must be {kind}, got {value!r}")
+            raise ProfileError(f"{where}: {table}.{key} must be {kind}, got {value!r:.60}")
+        _check_range(f"{table}.{key}", value, where)
     for key, (_, required) in schema.items():
         if required and key not in section:
             raise ProfileError(f"{where}: missing required key {table}.{key}")
     return section
+
+
+#: Bounds of numeric keys (inclusive) and the longest string a key may hold.
+_RANGES = {"development.lower_threshold": (-60.0, 60.0), "development.upper_threshold": (-60.0, 70.0),
+           "development.degree_days_per_generation": (0.0, 100_000.0),
+           "survival.lethal_cold": (-100.0, 60.0), "survival.lethal_heat": (-60.0, 100.0),
+           "suitability.saturating_generations": (0.0, 1000.0)}
+_MAX_CHARS = {"organism.name": 200, "organism.source": 2000}
+_MAX_CHARS_OTHER = 100
+
+
+def _check_range(key: str, value, where: str) -> None:
+    """Numbers finite and inside their bounds; strings of bounded length (every key)."""
+    if isinstance(value, str):
+        limit = _MAX_CHARS.get(key, _MAX_CHARS_OTHER)
+        if len(value) > limit:
+            raise ProfileError(f"{where}: {key} is {len(value)} characters long; "
+                               f"give at most {limit}")
+        return
+    if not isinstance(value, (int, float)):
+        return
+    if not math.isfinite(value):
+        raise ProfileError(f"{where}: {key} is {value}; give a finite number")
+    lo, hi = _RANGES.get(key, (-math.inf, math.inf))  # rate-curve parameters: validate_params
+    if not lo <= value <= hi:
+        raise ProfileError(f"{where}: {key} = {value:g} is outside the plausible {lo:g} to {hi:g}; "
+                           "check the value and its units")
 
 
 def _parse_mmdd(value: str, key: str, where: str) -> tuple[int, int]:
@@ -163,7 +192,8 @@ def _rate_curve(raw: dict | None, where: str) -> RateCurve | None:
                            f"{', '.join(MODELS)}, got {model!r}")
     for key, value in raw.items():
         if isinstance(value, bool) or not isinstance(value, (int, float)):
-            raise ProfileError(f"{where}: development.rate_curve.{key} must be a number, got {value!r}")
+            raise ProfileError(f"{where}: development.rate_curve.{key} must be a number, got {value!r:.60}")
+        _check_range(f"development.rate_curve.{key}", value, where)
     try:
         params = validate_params(model, raw)
     except ValueError as exc:

@@ -15,7 +15,7 @@ from suitmap.config.toml_file import read_toml
 from suitmap.errors import RunFileError
 
 FORMATS = ("geotiff", "netcdf", "png")
-_NAME = re.compile(r"^[A-Za-z0-9][A-Za-z0-9_.\-]*$")
+_NAME = re.compile(r"^[A-Za-z0-9][A-Za-z0-9_.\-]{0,63}$")  # a folder name part: at most 64 characters
 
 
 @dataclass(frozen=True)
@@ -37,6 +37,8 @@ class Period:
     pathway: str | None = None    # emissions pathway, for ensembles
     period: str | None = None     # period label (e.g. "mid-century"), for ensembles
     delta: "DeltaChange | None" = None  # delta-change downscaling onto the baseline
+    reference: str | None = None  # period its change is measured against (None: the baseline)
+    change_against: str | None = None  # "model_historical"/"observations" when a set chose it
 
 
 @dataclass(frozen=True)
@@ -55,7 +57,7 @@ class Output:
     dir: Path
     formats: tuple[str, ...] = FORMATS
     suitable_level: float = 0.5
-    agreement_level: float = 2 / 3
+    agreement_level: float = 0.8   # IPCC AR6 Atlas simple approach (comparison.robustness)
 
 
 @dataclass(frozen=True)
@@ -71,7 +73,9 @@ class RunFile:
     fast_tables: bool = True
     threads: int | None = None
     diurnal: str | None = None    # overrides the profile's development.diurnal
+    accept_implausible: bool = False  # let suspicious (not impossible) temperatures pass
     raw: dict[str, Any] = field(default_factory=dict, compare=False, repr=False)
+    inventory: tuple[str, ...] = ()   # scenario sets: model × pathway × period found/missing
 
     @property
     def base_dir(self) -> Path:
@@ -121,12 +125,12 @@ def _period(table: Any, name_key: str, base: Path, where: str, kind: str,
           where, name_key)
     for key in ("model", "pathway", "period"):
         if key in table and not (isinstance(table[key], str) and _NAME.match(table[key])):
-            raise RunFileError(f"{where}: {name_key}.{key} must be a short name, got {table[key]!r}")
+            raise RunFileError(f"{where}: {name_key}.{key} must be a short name (at most 64 letters, digits, '-', '_', '.'), got {table[key]!r:.80}")
     name = table.get("name", default_name)
     if not isinstance(name, str) or not _NAME.match(name):
         raise RunFileError(
-            f"{where}: {name_key}.name must be a short name of letters, digits, '-', '_' or '.', "
-            f"got {name!r}"
+            f"{where}: {name_key}.name must be a short name of at most 64 letters, digits, '-', '_' "
+            f"or '.', got {name!r:.80}"
         )
     years = table.get("years")
     if (not isinstance(years, list) or len(years) != 2
@@ -134,6 +138,8 @@ def _period(table: Any, name_key: str, base: Path, where: str, kind: str,
         raise RunFileError(f"{where}: {name_key}.years must be [first, last], e.g. [1991, 2020]")
     if years[0] > years[1]:
         raise RunFileError(f"{where}: {name_key}.years first year {years[0]} is after last {years[1]}")
+    if not 1 <= years[0] <= years[1] <= 9999:
+        raise RunFileError(f"{where}: {name_key}.years must lie within 1 to 9999, got {years}")
     for var in ("tmin", "tmax"):
         if var not in table:
             raise RunFileError(f"{where}: missing key {name_key}.{var} (daily {var} files)")
@@ -177,19 +183,21 @@ def _delta(raw: Any, key: str, base: Path, where: str) -> DeltaChange | None:
                        (years[0], years[1]), smoothing, window)
 
 
-def _scenario_sets(raw: Any, base: Path, where: str) -> list[Period]:
-    from suitmap.config.scenario_sets import expand
+def _scenario_sets(raw: Any, base: Path, where: str) -> tuple[list[Period], list[str]]:
+    from suitmap.config.scenario_sets import expand, inventory
+    from suitmap.config.set_reference import set_periods, set_reference
 
     if isinstance(raw, dict):
         raw = [raw]
     if not isinstance(raw, list):
         raise RunFileError(f"{where}: [[scenario_set]] must be an array of tables")
-    out = []
+    out, lines = [], []
     for i, table in enumerate(raw):
         key = f"scenario_set[{i}]"
         if not isinstance(table, dict):
             raise RunFileError(f"{where}: {key} must be a table")
-        _keys(table, ("files", "variables", "periods"), where, key)
+        _keys(table, ("files", "variables", "periods", "historical", "historical_pathway",
+                      "change_against", "downscale"), where, key)
         files = table.get("files")
         if not isinstance(files, str):
             raise RunFileError(f"{where}: {key}.files must be a file-name template string")
@@ -207,13 +215,12 @@ def _scenario_sets(raw: Any, base: Path, where: str) -> list[Period]:
                     isinstance(y, int) and not isinstance(y, bool) for y in years)) or years[0] > years[1]:
                 raise RunFileError(f"{where}: {key}.periods.{name} must be [first, last] years")
             spans[name] = (years[0], years[1])
-        for f in expand(_resolve(base, files), variables, spans, f"{where}: {key}"):
-            out.append(Period(
-                name=f"{f.model}_{f.pathway}_{f.period}", years=spans[f.period],
-                tmin=ClimateSource(f.tmin, variables["tmin"]),
-                tmax=ClimateSource(f.tmax, variables["tmax"]),
-                kind="scenario", model=f.model, pathway=f.pathway, period=f.period))
-    return out
+        ref = set_reference(table, spans, f"{where}: {key}", _NAME)
+        found = expand(_resolve(base, files), variables, spans, f"{where}: {key}",
+                       ref.historical, ref.historical_pathway)
+        lines += inventory(found, spans, ref.historical)
+        out += set_periods(found, spans, variables, ref, ClimateSource, Period, DeltaChange)
+    return out, lines
 
 
 def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
@@ -243,9 +250,10 @@ def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
         scen_raw = [scen_raw]
     if not isinstance(scen_raw, list):
         raise RunFileError(f"{where}: [[scenario]] must be an array of tables")
+    set_scenarios, inventory = _scenario_sets(raw.get("scenario_set", []), base, where)
     scenarios = tuple(
         _period(s, f"scenario[{i}]", base, where, "scenario") for i, s in enumerate(scen_raw)
-    ) + tuple(_scenario_sets(raw.get("scenario_set", []), base, where))
+    ) + tuple(set_scenarios)
     names = [baseline.name] + [s.name for s in scenarios]
     dupes = sorted({n for n in names if names.count(n) > 1})
     if dupes:
@@ -256,11 +264,14 @@ def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
         raise RunFileError(f"{where}: [output] must be a table")
     _keys(out, ("dir", "formats", "suitable_level", "agreement_level"), where, "output")
     out_dir = out.get("dir", "results")
-    if not isinstance(out_dir, str) or not out_dir:
+    if not isinstance(out_dir, str) or not out_dir or len(out_dir) > 1024 or "\0" in out_dir:
         raise RunFileError(f"{where}: output.dir must be a folder name")
     formats = out.get("formats", list(FORMATS))
     if not isinstance(formats, list) or not all(isinstance(f, str) for f in formats):
         raise RunFileError(f"{where}: output.formats must be a list, e.g. [\"geotiff\", \"netcdf\"]")
+    if not formats:
+        raise RunFileError(f"{where}: output.formats is empty, so nothing would be written; "
+                           f"name at least one of {', '.join(FORMATS)} (or leave the key out for all)")
     for f in formats:
         if f not in FORMATS:
             raise RunFileError(
@@ -269,9 +280,10 @@ def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
     level = out.get("suitable_level", 0.5)
     if isinstance(level, bool) or not isinstance(level, (int, float)) or not 0 < level <= 1:
         raise RunFileError(f"{where}: output.suitable_level must be a number in (0, 1]")
-    agree = out.get("agreement_level", 2 / 3)
-    if isinstance(agree, bool) or not isinstance(agree, (int, float)) or not 0 < agree <= 1:
-        raise RunFileError(f"{where}: output.agreement_level must be a number in (0, 1]")
+    agree = out.get("agreement_level", 0.8)
+    if isinstance(agree, bool) or not isinstance(agree, (int, float)) or not 0.5 < agree <= 1:
+        raise RunFileError(f"{where}: output.agreement_level must be a number above 0.5 and at "
+                           "most 1 (default 0.8, the IPCC AR6 Atlas level)")
     output = Output(Path(_resolve(base, out_dir)), tuple(dict.fromkeys(formats)), float(level),
                     float(agree))
 
@@ -279,7 +291,10 @@ def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
     if not isinstance(compute, dict):
         raise RunFileError(f"{where}: [compute] must be a table")
     _keys(compute, ("chunk_cells", "monthly_route", "daily_sd", "fast_tables", "threads",
-                    "diurnal"), where, "compute")
+                    "diurnal", "accept_implausible"), where, "compute")
+    accept = compute.get("accept_implausible", False)
+    if not isinstance(accept, bool):
+        raise RunFileError(f"{where}: compute.accept_implausible must be true or false")
     fast = compute.get("fast_tables", True)
     if not isinstance(fast, bool):
         raise RunFileError(f"{where}: compute.fast_tables must be true or false")
@@ -287,8 +302,10 @@ def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
     if route not in ("interpolate", "normal"):
         raise RunFileError(f"{where}: compute.monthly_route must be \"interpolate\" or \"normal\"")
     sd = compute.get("daily_sd")
-    if sd is not None and (isinstance(sd, bool) or not isinstance(sd, (int, float)) or sd < 0):
-        raise RunFileError(f"{where}: compute.daily_sd must be a non-negative number (°C)")
+    if sd is not None and (isinstance(sd, bool) or not isinstance(sd, (int, float))
+                           or not 0 <= sd <= 30):
+        raise RunFileError(f"{where}: compute.daily_sd must be a finite number from 0 to 30 (°C), "
+                           f"got {sd!r}")
     chunk = compute.get("chunk_cells")
     if chunk is not None and (isinstance(chunk, bool) or not isinstance(chunk, int) or chunk < 1):
         raise RunFileError(f"{where}: compute.chunk_cells must be a positive whole number")
@@ -304,7 +321,8 @@ def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
     return RunFile(path=path, profile_path=Path(_resolve(base, prof["path"])), baseline=baseline,
                    scenarios=scenarios, output=output, chunk_cells=chunk, monthly_route=route,
                    daily_sd=None if sd is None else float(sd), fast_tables=fast,
-                   threads=threads, diurnal=diurnal, raw=raw)
+                   threads=threads, diurnal=diurnal, accept_implausible=accept, raw=raw,
+                   inventory=tuple(inventory))
 
 
 def load_run(path: str | Path) -> RunFile:

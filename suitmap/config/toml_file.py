@@ -22,5 +22,8 @@ def read_toml(path: str | Path, error_type: type[Exception], what: str) -> dict[
             return tomllib.load(fh)
     except tomllib.TOMLDecodeError as exc:
         raise error_type(f"{what} {path}: not valid TOML ({exc}); fix the syntax") from None
+    except (UnicodeDecodeError, ValueError) as exc:  # binary garbage, NUL bytes
+        raise error_type(f"{what} {path}: not a TOML text file ({type(exc).__name__}); "
+                         "give a UTF-8 TOML file") from None
     except OSError as exc:
         raise error_type(f"{what} {path}: cannot be read ({exc.strerror})") from None

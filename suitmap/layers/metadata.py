@@ -13,6 +13,8 @@ from typing import Any
 LIMITING_FACTOR_CLASSES = ("none", "too_cool", "too_hot", "cold_kill", "heat_kill")
 CHANGE_CLASSES = ("stays_unsuitable", "becomes_suitable", "stays_suitable", "becomes_unsuitable")
 CLASS_LAYERS = {"limiting_factor": LIMITING_FACTOR_CLASSES, "change_class": CHANGE_CLASSES}
+#: ``robust_change_<layer>`` of an ensemble (rule: suitmap.comparison.robustness).
+ROBUST_CHANGE_CLASSES = ("no_robust_signal", "robust", "conflicting_signals")
 MISSING_CLASS = 255
 
 _PERIOD_MEAN = "time: sum within years time: mean over years"
@@ -117,4 +119,9 @@ def layer_attrs(name: str) -> dict[str, Any]:
             "long_name": f"change (scenario minus baseline) of: {base['long_name']}",
             "cell_methods": base.get("cell_methods", ""),
         }
+    if name.startswith("model_bias_"):
+        base = LAYER_ATTRS[name[len("model_bias_"):]]
+        return {"units": base["units"], "cell_methods": base.get("cell_methods", ""),
+                "long_name": f"climate model bias (the model's historical run minus the observed "
+                             f"baseline) of: {base['long_name']}"}
     raise KeyError(name)

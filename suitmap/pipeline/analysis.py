@@ -18,11 +18,14 @@ import xarray as xr
 
 from suitmap import climate
 from suitmap.comparison.change import compare
+from suitmap.climate.time_axis import check_same_calendar
 from suitmap.errors import InputError, SuitmapWarning
 from suitmap.layers.compute import compute_layers, season_windows
 from suitmap.config.profile import Profile, load_profile
 from suitmap.pipeline.folder import period_key
 from suitmap.config.runfile import Period, RunFile, load_run
+from suitmap.pipeline.preflight import (check_output_names, comparison_name, ensemble_name,  # noqa: F401
+                                        named_read_errors)
 from suitmap.pipeline.scheduling import threads
 
 #: Target size (bytes) of one spatial chunk of one daily variable in float32.
@@ -53,20 +56,24 @@ def _as_run(run: RunFile | str | Path) -> RunFile:
     return run if isinstance(run, RunFile) else load_run(run)
 
 
-def _open_role(src, role: str, label: str, years: tuple[int, int], extra: int):
+def _open_role(src, role: str, label: str, years: tuple[int, int], extra: int,
+               accept_implausible: bool = False):
     paths: list[Path] = []
     for pattern in src.patterns:
         paths.extend(climate.resolve_paths(pattern, what=f"{label} {role}"))
     side = chunk_side(366)
     da = climate.open_climate(paths, role, variable=src.variable, label=label,
-                              chunks={"y": side, "x": side}, file_chunks=True)
+                              chunks={"y": side, "x": side}, file_chunks=True,
+                              check_values=True,
+                                  accept_implausible=accept_implausible)
     first, last = years
     climate.select_years(da, first, last, label=f"{label} {role}")
     y = da["time"].dt.year
     return da.isel(time=np.flatnonzero(((y >= first) & (y <= last + extra)).values)), paths
 
 
-def delta_downscaled(period: Period, baseline: "PeriodClimate", profile: Profile) -> PeriodClimate:
+def delta_downscaled(period: Period, baseline: "PeriodClimate", profile: Profile,
+                     accept_implausible: bool = False) -> PeriodClimate:
     """Daily climate of a scenario by delta change: the baseline's observed days plus the
     model's smoothed change (future minus its own historical run), on the baseline grid."""
     from suitmap.climate.delta import apply_deltas, monthly_deltas
@@ -74,9 +81,10 @@ def delta_downscaled(period: Period, baseline: "PeriodClimate", profile: Profile
     d = period.delta
     out, files = {}, {}
     for role in ("tmin", "tmax"):
-        fut, fpaths = _open_role(getattr(period, role), role, period.name, period.years, 0)
+        fut, fpaths = _open_role(getattr(period, role), role, period.name, period.years, 0,
+                                 accept_implausible)
         hist, hpaths = _open_role(getattr(d, f"historical_{role}"), role,
-                                  f"{period.name} historical", d.historical_years, 0)
+                                  f"{period.name} historical", d.historical_years, 0, accept_implausible)
         deltas = monthly_deltas(hist, fut, smoothing=d.smoothing, window_days=d.window_days)
         base = getattr(baseline, role)
         out[role] = apply_deltas(base, deltas, template=base, target_years=None)
@@ -88,7 +96,8 @@ def delta_downscaled(period: Period, baseline: "PeriodClimate", profile: Profile
 
 
 def open_period(period: Period, profile: Profile, *, chunk_cells: int | None = None,
-                qa: bool = False, monthly_route: str = "interpolate") -> PeriodClimate:
+                qa: bool = False, monthly_route: str = "interpolate",
+                accept_implausible: bool = False) -> PeriodClimate:
     """Open, check and normalise the daily Tmin/Tmax of one period.
 
     The data are limited to the period's years (plus the following year
@@ -113,7 +122,8 @@ def open_period(period: Period, profile: Profile, *, chunk_cells: int | None = N
         side = chunk_side(366, chunk_cells)
         da = climate.open_climate(paths, role, variable=src.variable, label=period.name,
                                   allow_monthly=True, chunks={"y": side, "x": side},
-                                  file_chunks=True)
+                                  file_chunks=True, check_values=True,
+                                  accept_implausible=accept_implausible)
         first, last = period.years
         if da.attrs.get("frequency") == "monthly":
             if monthly_route == "normal":
@@ -131,6 +141,7 @@ def open_period(period: Period, profile: Profile, *, chunk_cells: int | None = N
     if (tmin.attrs.get("frequency") == "monthly") != (tmax.attrs.get("frequency") == "monthly"):
         raise InputError(f"{period.name}: one of tmin/tmax is daily and the other monthly; "
                          "give both at the same time step")
+    check_same_calendar(tmin, tmax, period.name)
     climate.check_same_grid(tmin, tmax, f"{period.name} tmin", f"{period.name} tmax")
     if tmin.sizes["time"] != tmax.sizes["time"] or not np.array_equal(
             tmin["time"].values, tmax["time"].values):
@@ -168,10 +179,12 @@ def check_run(run: RunFile | str | Path) -> tuple[RunFile, Profile, list[PeriodC
     Raises a :class:`~suitmap.errors.SuitmapError` on the first unusable input.
     """
     run = _as_run(run)
+    check_output_names(run)
     profile = effective_profile(run)
     opened = []
     for period in run.periods:
-        pc = open_period(period, profile, chunk_cells=run.chunk_cells, qa=True)
+        pc = open_period(period, profile, chunk_cells=run.chunk_cells, qa=True,
+                         accept_implausible=run.accept_implausible)
         opened.append(pc)
     from suitmap.spatial.regrid import grids_match
 
@@ -228,10 +241,6 @@ class RunLayers:
         return RunLayers(self.run, self.profile, periods, comps, self.inputs, ens, self.keys)
 
 
-def comparison_name(scenario: str, baseline: str) -> str:
-    return f"{scenario}_vs_{baseline}"
-
-
 def compute_run(run: RunFile | str | Path) -> RunLayers:
     """Lazy layers of every period and comparison of a run file."""
     run = _as_run(run)
@@ -243,11 +252,12 @@ def compute_run(run: RunFile | str | Path) -> RunLayers:
     base_clim = None
     for period in run.periods:
         if period.delta is not None:
-            pc = delta_downscaled(period, base_clim, profile)
+            pc = delta_downscaled(period, base_clim, profile, run.accept_implausible)
             years = run.baseline.years  # the baseline's days, shifted by the model's change
         else:
             pc = open_period(period, profile, chunk_cells=run.chunk_cells,
-                             monthly_route=run.monthly_route)
+                             monthly_route=run.monthly_route,
+                             accept_implausible=run.accept_implausible)
             years = period.years
         if base_clim is None:
             base_clim = pc
@@ -272,6 +282,9 @@ def compute_run(run: RunFile | str | Path) -> RunLayers:
                                        f"{period.delta.historical_years[1]}, added to baseline "
                                        f"{run.baseline.years[0]}-{run.baseline.years[1]}")
             ds.attrs["years"] = f"{period.years[0]}-{period.years[1]}"
+        if period.kind == "historical" or period.reference is not None:
+            ds.attrs["model_climate"] = ("raw climate-model output, not bias-corrected: read its change "
+                                         "against the model's own historical run, not its absolute values")
         if template is None:
             template = ds  # the baseline's grid is the template of every comparison
         else:
@@ -300,13 +313,31 @@ def finish_period(ds: xr.Dataset) -> xr.Dataset:
     return ds
 
 
+def change_name(scen: Period, run: RunFile) -> str:
+    """Name of a scenario's comparison: against its reference period, else the baseline."""
+    return comparison_name(scen.name, scen.reference or run.baseline.name)
+
+
 def derive(run: RunFile, periods: dict[str, xr.Dataset]):
-    """Comparisons and ensembles from period layers (lazy or computed)."""
+    """Comparisons, model bias layers and ensembles from period layers (lazy or computed).
+
+    A model's historical run gives ``model_bias_<layer>`` against the baseline; a
+    scenario with a ``reference`` (its model's historical run) is compared with
+    it; the route is recorded on every output (:mod:`suitmap.comparison.reference`).
+    """
+    from suitmap.comparison.reference import label_route, model_bias, route_of
+
     comps = {}
     base = periods[run.baseline.name]
     for scen in run.scenarios:
-        comps[comparison_name(scen.name, run.baseline.name)] = compare(
-            base, periods[scen.name], suitable_level=run.output.suitable_level)
+        name = change_name(scen, run)
+        if scen.kind == "historical":
+            comps[name] = model_bias(base, periods[scen.name])
+            continue
+        ref = scen.reference or run.baseline.name
+        comps[name] = label_route(compare(periods[ref], periods[scen.name],
+                                          suitable_level=run.output.suitable_level),
+                                  route_of(scen), ref)
     return comps, ensemble_groups(run, periods, comps)
 
 
@@ -340,23 +371,31 @@ def ensemble_groups(run: RunFile, periods: dict[str, xr.Dataset],
     """
     from suitmap.comparison.ensemble import ensemble_stats
 
-    groups: dict[tuple[str, str], dict[str, str]] = {}
+    from suitmap.comparison.reference import ROUTE_NOTES, route_of
+
+    groups: dict[tuple[str, str], dict[str, Period]] = {}
     for scen in run.scenarios:
-        if scen.model and scen.pathway and scen.period:
-            groups.setdefault((scen.pathway, scen.period), {})[scen.model] = scen.name
+        if scen.model and scen.pathway and scen.period and scen.kind != "historical":
+            groups.setdefault((scen.pathway, scen.period), {})[scen.model] = scen
     out = {}
     for (pathway, period), members in sorted(groups.items()):
         if len(members) < 2:
             continue
-        layers = ensemble_stats({m: periods[n] for m, n in members.items()},
+        layers = ensemble_stats({m: periods[s.name] for m, s in members.items()},
                                 agreement_level=run.output.agreement_level)
-        changes = ensemble_stats(
-            {m: comps[comparison_name(n, run.baseline.name)] for m, n in members.items()},
-            agreement_level=run.output.agreement_level)
+        changes = ensemble_stats({m: comps[change_name(s, run)] for m, s in members.items()},
+                                 agreement_level=run.output.agreement_level)
+        routes = sorted({route_of(s) for s in members.values()})
+        route = routes[0] if len(routes) == 1 else "mixed: " + ", ".join(routes)
+        for v in changes.data_vars:
+            changes[v].attrs["change_reference"] = route
         ds = xr.merge([layers, changes], combine_attrs="override", compat="override")
         ds.attrs.update({"pathway": pathway, "period": period, "models": ", ".join(sorted(members)),
-                         "n_models": len(members), "baseline": run.baseline.name})
-        out[f"ensemble_{pathway}_{period}"] = ds
+                         "n_models": len(members), "baseline": run.baseline.name,
+                         "change_reference": route,
+                         "change_reference_note": ROUTE_NOTES.get(route, "models compared with "
+                                                                  "different references")})
+        out[ensemble_name(pathway, period)] = ds
     return out
 
 
@@ -386,7 +425,8 @@ def run(run: RunFile | str | Path, *, overwrite: bool = False, progress: bool = 
     folder made by another run file is refused unless ``overwrite``.  Each
     period's layers are cached under ``<output.dir>/.suitmap/`` as soon as they
     are computed; a rerun (after a crash, a kill, or a change of inputs or
-    profile) recomputes only the periods whose inputs changed.  ``workers``
+    profile) recomputes only the periods whose inputs changed; a rerun of a finished run
+    that nothing has changed since writes nothing (:func:`suitmap.pipeline.finished.finished_manifest`).  ``workers``
     starts a local dask.distributed cluster; ``scheduler_address`` uses an
     existing one; by default dask's threaded scheduler runs the graph.
 
@@ -401,7 +441,12 @@ def run(run: RunFile | str | Path, *, overwrite: bool = False, progress: bool = 
     from suitmap.pipeline.folder import OutputFolder
     from suitmap.pipeline.scheduling import scheduler
 
+    from suitmap.pipeline.finished import finished_manifest, mark_finished
+
     run = _as_run(run)
+    if not overwrite and (done := finished_manifest(run)) is not None:
+        return done
+    check_output_names(run)
     folder = OutputFolder(run.output.dir, run.path, overwrite)
     folder.check()
     lazy = compute_run(run)
@@ -413,9 +458,13 @@ def run(run: RunFile | str | Path, *, overwrite: bool = False, progress: bool = 
                 key = lazy.keys[name]
                 got = folder.load(name, key)
                 if got is None:
-                    computed = finish_period(_compute_one(ds, client, progress, f"{i}/{n} {name}"))
+                    with named_read_errors(f"period '{name}'", [f for fs in lazy.inputs[name].values()
+                                                                 for f in fs]):
+                        computed = finish_period(_compute_one(ds, client, progress, f"{i}/{n} {name}"))
                     got = folder.store(name, key, computed)
                 periods[name] = got
         comps, ens = derive(run, periods)
         layers = RunLayers(run, lazy.profile, periods, comps, lazy.inputs, ens, lazy.keys)
-        return write_outputs(layers, folder=folder)
+        manifest = write_outputs(layers, folder=folder)
+        mark_finished(run)
+        return manifest

@@ -24,12 +24,14 @@ import shutil
 import socket
 import time
 from pathlib import Path
-
-import xarray as xr
+from typing import TYPE_CHECKING
 
 from suitmap._version import __version__
 from suitmap.errors import OutputError
 from suitmap.writers.atomic import TEMP_MARK, atomic_path, atomic_write_text
+
+if TYPE_CHECKING:
+    import xarray as xr
 
 STATE_DIR = ".suitmap"
 
@@ -89,6 +91,9 @@ class OutputFolder:
     def check(self) -> None:
         """Refuse a folder this run may not write into (before any work)."""
         p = self.path
+        if p.is_symlink() and not p.exists():
+            raise OutputError(f"output path {p} is a link to {os.readlink(p)}, which does not exist; "
+                              "remove the link or choose another output.dir")
         if p.exists() and not p.is_dir():
             raise OutputError(f"output path {p} is a file, not a folder; choose another output.dir")
         if p.exists() and not self.overwrite and self.owner() != self.run_file:
@@ -158,7 +163,9 @@ class OutputFolder:
     def _cache_path(self, name: str, key: str) -> Path:
         return self.cache_dir / f"{name}.{key[:24]}.nc"
 
-    def load(self, name: str, key: str) -> xr.Dataset | None:
+    def load(self, name: str, key: str) -> "xr.Dataset | None":
+        import xarray as xr  # here, not at the top: a quick "nothing to do" rerun needs no xarray
+
         p = self._cache_path(name, key)
         if not p.is_file():
             return None
@@ -176,7 +183,7 @@ class OutputFolder:
             ds = ds.rio.write_crs(crs)
         return ds
 
-    def store(self, name: str, key: str, ds: xr.Dataset) -> xr.Dataset:
+    def store(self, name: str, key: str, ds: "xr.Dataset") -> "xr.Dataset":
         """Write a period's layers to the cache and return them as read back."""
         for old in self.cache_dir.glob(f"{name}.*.nc"):
             old.unlink()

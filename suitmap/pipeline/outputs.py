@@ -40,6 +40,9 @@ from suitmap.writers.netcdf import write_netcdf
 from suitmap.writers.report import layer_readme_lines, write_report
 
 
+_ROUTE_TAGS = ("change_reference", "change_reference_period", "small_ensemble_caution")
+
+
 def check_output_dir(out_dir: Path, overwrite: bool) -> None:
     """Refuse an existing output folder unless ``overwrite``; check the parent exists."""
     out_dir = Path(out_dir)
@@ -109,7 +112,9 @@ def _write_group(ds: xr.Dataset, folder: Path, group: str, kind: str, formats, m
     for name in ds.data_vars:
         da = ds[name]
         if "geotiff" in formats:
-            p = write_cog(da, folder / f"{name}.tif", layer=name, tags=tags)
+            layer_tags = dict(tags)
+            layer_tags.update({k: str(da.attrs[k]) for k in _ROUTE_TAGS if k in da.attrs})  # route, caution
+            p = write_cog(da, folder / f"{name}.tif", layer=name, tags=layer_tags)
             manifest.add(p, layer=name, period_or_comparison=group, format="geotiff")
             for style in write_styles(p, name, da.attrs, da.values):
                 manifest.add(style, layer=name, period_or_comparison=group,
@@ -119,12 +124,15 @@ def _write_group(ds: xr.Dataset, folder: Path, group: str, kind: str, formats, m
             hatch = None
             agree_name = name.replace("ensemble_median_", "model_agreement_", 1)
             if name.startswith("ensemble_median_change_") and agree_name in ds:
-                hatch = ds[agree_name] < (agreement or 2 / 3)
+                hatch = ds[agree_name] < (agreement or 0.8)
             never = None
             if is_event_day_layer(name) and status_name(name) in ds:
                 never = ds[status_name(name)] == 1
+            caution = DEFAULT_CAUTION
+            if "small_ensemble_caution" in da.attrs:
+                caution += f" Only {da.attrs.get('n_models')} climate models: indicative only."
             p = plot_layer(da.rename(name), folder / f"{name}.png", title=title,
-                           caution=DEFAULT_CAUTION, hatch=hatch, never=never)
+                           caution=caution, hatch=hatch, never=never)
             manifest.add(p, layer=name, period_or_comparison=group, format="png")
     if "netcdf" in formats:
         fname = {"period": "layers.nc", "comparison": "changes.nc", "ensemble": "ensemble.nc"}[kind]
@@ -240,7 +248,8 @@ def _readme_text(layers) -> str:
         lines.append(f"  {p.name}: years {p.years[0]}-{p.years[1]}, {ds.attrs.get('seasons')} season-years, "
                      f"calendar {ds.attrs.get('calendar')}")
     if layers.comparisons:
-        lines.append("comparisons (scenario minus baseline):")
+        lines.append("comparisons (scenario minus its reference, see each file's change_reference; "
+                     "model_bias_*: a model's historical run minus the observations):")
         lines.extend(f"  {c}" for c in layers.comparisons)
     if layers.ensembles:
         lines.append("ensembles across climate models (median, 10th/90th percentiles, agreement):")

@@ -74,6 +74,11 @@ SEQUENTIAL_CMAP = "viridis"
 SUITABILITY_CMAP = "cividis"
 DIVERGING_CMAP = "RdBu_r"
 
+#: Layers of signed differences, drawn on the zero-centred diverging scale: change layers,
+#: their ensemble statistics, and model bias (a model's historical run minus observations).
+_DIVERGING_PREFIXES = ("change_", "ensemble_median_change_", "ensemble_p10_change_",
+                       "ensemble_p90_change_", "model_bias_")
+
 LayerKind = Literal["class", "change", "suitability", "sequential"]
 
 
@@ -94,7 +99,7 @@ def layer_kind(layer: str, attrs: Mapping | None = None) -> LayerKind:
     """
     if is_class_layer(layer, attrs):
         return "class"
-    if layer.startswith("change_"):
+    if layer.startswith(_DIVERGING_PREFIXES):
         return "change"
     if "suitability" in layer:
         return "suitability"
