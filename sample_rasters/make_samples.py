@@ -101,7 +101,50 @@ def _write(path: Path, name: str, data: np.ndarray, times, calendar: str, units:
     ds.to_netcdf(path, encoding=enc, format="NETCDF4")
 
 
+def write_terrain(path: Path = HERE / "terrain" / "elevation.tif") -> None:
+    """The invented relief as a small GeoTIFF (m), on the climate grid."""
+    path.parent.mkdir(parents=True, exist_ok=True)
+    dem = xr.DataArray(elevation().astype(np.float32), dims=("y", "x"),
+                       coords={"y": LAT, "x": LON}, name="elevation",
+                       attrs={"units": "m", "long_name": "invented elevation of the Karsvale Uplands"})
+    dem.rio.write_crs("EPSG:4326").rio.to_raster(path, compress="deflate")
+
+
+def write_districts(path: Path = HERE / "regions" / "karsvale_districts.geojson") -> None:
+    """Invented districts of the Karsvale Uplands (GeoJSON, lon/lat).
+
+    One district contains the lake (missing cells), one reaches east beyond the
+    climate grid, and the town of Tollmere is an enclave smaller than one cell.
+    """
+    import json
+
+    from shapely.geometry import Polygon, box, mapping
+
+    town = box(14.305, 46.715, 14.325, 46.73)
+    districts = {
+        "Ostra Lakeside": Polygon([(14.0, 46.1), (14.52, 46.1), (14.47, 46.32), (14.55, 46.5),
+                                   (14.0, 46.5)]),
+        "Lower Karsvale": Polygon([(14.52, 46.1), (15.1, 46.1), (15.1, 46.3), (15.0, 46.3),
+                                   (15.0, 46.56), (14.62, 46.55),
+                                   (14.55, 46.5), (14.47, 46.32)]),
+        "Brannock Heights": Polygon([(14.0, 46.5), (14.55, 46.5), (14.62, 46.55), (14.58, 47.0),
+                                     (14.0, 47.0)]).difference(town),
+        "Karsvale Ridge": Polygon([(14.62, 46.55), (15.0, 46.56), (15.0, 47.0), (14.58, 47.0)]),
+        "Far Marches": Polygon([(15.0, 46.3), (15.4, 46.3), (15.4, 46.9), (15.0, 46.9)]),
+        "Tollmere": town,
+    }
+    features = [{"type": "Feature", "properties": {"district": name},
+                 "geometry": json.loads(json.dumps(mapping(g)))} for name, g in districts.items()]
+    doc = {"type": "FeatureCollection", "name": "karsvale_districts",
+           "comment": "Invented districts for the suitmap demo; no real place.",
+           "features": features}
+    path.parent.mkdir(parents=True, exist_ok=True)
+    path.write_text(json.dumps(doc, indent=1) + "\n")
+
+
 def main() -> None:
+    write_terrain()
+    write_districts()
     OUT.mkdir(parents=True, exist_ok=True)
     for old in OUT.glob("*.nc"):
         old.unlink()

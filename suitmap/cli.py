@@ -87,6 +87,17 @@ def _cmd_check(args) -> int:
     return 0
 
 
+def _cmd_summarize(args) -> int:
+    from suitmap.pipeline.regions import summarize
+
+    csv = summarize(args.runfile, args.regions, args.field, layer=args.layer,
+                    overwrite=args.overwrite)
+    if not args.quiet:
+        print(f"regions: {csv}")
+        print(f"         {csv.with_suffix('.gpkg')}")
+    return 0
+
+
 def _cmd_fit(args) -> int:
     from suitmap.fit import fit_all, linear_part
     from suitmap.fit.report import plot_fits, read_lab_csv, write_profile_toml
@@ -174,6 +185,16 @@ def build_parser() -> argparse.ArgumentParser:
                        help="(re)write report.html and methods.md of an output folder")
     p.add_argument("outdir", help="output folder of a run (holds manifest.json)")
     p.set_defaults(func=_cmd_report)
+    p = sub.add_parser("summarize", parents=[common],
+                       help="summarize a finished run's layers by region (km², means), recomputing nothing")
+    p.add_argument("runfile", help="run file (TOML) whose output folder to summarize")
+    p.add_argument("--regions", default=None, metavar="FILE",
+                   help="vector file of the regions (GeoPackage, shapefile, GeoJSON, ...; "
+                        "default: the run file's [regions])")
+    p.add_argument("--field", default=None, metavar="NAME", help="the column naming each region")
+    p.add_argument("--layer", default=None, help="layer of a multi-layer vector file")
+    p.add_argument("--overwrite", action="store_true", help="replace existing regions.csv/.gpkg")
+    p.set_defaults(func=_cmd_summarize)
     return parser
 
 

@@ -70,7 +70,8 @@ def test_geotiffs_are_cloud_optimised_and_georeferenced(demo):
             assert src.profile["tiled"] or src.tags(ns="IMAGE_STRUCTURE").get("LAYOUT") == "COG"
             assert src.transform.e < 0  # north-up
             data = src.read(1)
-            if layer in ("limiting_factor", "change_class") or layer.endswith("_status"):
+            if layer in ("limiting_factor", "change_class", "range_change", "relocation_candidates") \
+                    or layer.endswith("_status"):
                 assert src.dtypes[0] == "uint8" and src.nodata == 255
                 assert src.colormap(1)[0][:3] != (0, 0, 0) or src.colormap(1)[1]
                 assert (data[lake] == 255).all() and (data[~lake] != 255).all()
@@ -316,3 +317,25 @@ def test_results_readme_lists_every_layer(demo):
     for tif in (root / "baseline").glob("*.tif"):
         assert f"  {tif.stem} [" in text, tif.stem
     assert "0 none, 1 too_cool" in text
+
+
+def test_demo_writes_regional_and_range_outputs(demo):
+    import pandas as pd
+
+    root = demo[0] / "results"
+    table = pd.read_csv(root / "regions.csv")
+    base = table[table["period"] == "baseline"].set_index("region")
+    assert len(base) == 6  # the invented districts
+    # Tollmere is smaller than one cell and still gets that cell's value
+    assert base.loc["Tollmere", "area_km2"] < 0.05 * 0.05 * 111 * 76
+    assert np.isfinite(base.loc["Tollmere", "mean_degree_days"])
+    # Ostra Lakeside holds the lake (missing cells), Far Marches reaches beyond the grid
+    for name in ("Ostra Lakeside", "Far Marches"):
+        assert 0 < base.loc[name, "covered_km2"] < 0.9 * base.loc[name, "area_km2"]
+    assert np.isfinite(base["suitable_elevation_low_m"]).any()
+    ranges = pd.read_csv(root / "ranges.csv")
+    assert "all" in set(ranges["band"]) and np.isfinite(ranges["centroid_shift_km"]).all()
+    comp = root / "model-a_mid-century_vs_baseline"
+    for name in ("range_change.tif", "relocation_candidates.tif", "region_change.png",
+                 "range_edges.png"):
+        assert (comp / name).is_file(), name

@@ -22,7 +22,6 @@ from suitmap.kernels.degree_days import CUTOFFS, METHODS, degree_days_block
 from suitmap.kernels.development import daily_development
 from suitmap.kernels.tables import (
     T_RANGE,
-    DailyTable,
     build_table,
     degree_day_table,
     development_table,

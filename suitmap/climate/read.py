@@ -202,7 +202,8 @@ def _regular(values: np.ndarray) -> bool:
     return steps.size == 0 or bool(np.allclose(steps, steps[0], rtol=_TOL, atol=0))
 
 
-def _normalise(p: dict) -> tuple[xr.DataArray, CRS]:
+def _normalise(p: dict, convert=None) -> tuple[xr.DataArray, CRS]:
+    """``convert(da, p)``: the units conversion (default: temperature to °C)."""
     da, where = p["da"], p["where"]
     tdim, ydim, xdim = p["dims"]
     da = da.reset_coords(drop=True)
@@ -213,7 +214,8 @@ def _normalise(p: dict) -> tuple[xr.DataArray, CRS]:
     da = da.squeeze(extra, drop=True).transpose("time", "y", "x")
     if da.sizes["y"] < 2 or da.sizes["x"] < 2:
         raise InputError(f"{where}: the grid needs at least 2 cells along x and along y")
-    da = _to_celsius(da, _canonical_units(p["units"], where))
+    da = (convert(da, p) if convert is not None
+          else _to_celsius(da, _canonical_units(p["units"], where)))
     if p["crs"] is None:
         if not p["geo_names"]:
             raise InputError(f"{where} has no CRS and no latitude/longitude coordinates; "

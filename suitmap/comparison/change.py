@@ -6,6 +6,7 @@ import numpy as np
 import xarray as xr
 
 from suitmap.layers.metadata import CHANGE_CLASSES, MISSING_CLASS, NUMERIC_LAYERS, layer_attrs
+from suitmap.layers.metadata import OPTIONAL_NUMERIC_LAYERS
 
 
 def compare(baseline: xr.Dataset, scenario: xr.Dataset, *, suitable_level: float = 0.5) -> xr.Dataset:
@@ -22,7 +23,7 @@ def compare(baseline: xr.Dataset, scenario: xr.Dataset, *, suitable_level: float
         Suitability at or above which a cell counts as suitable.
     """
     out = {}
-    for name in NUMERIC_LAYERS:
+    for name in NUMERIC_LAYERS + OPTIONAL_NUMERIC_LAYERS:
         if name in baseline and name in scenario:
             diff = (scenario[name].astype(np.float64) - baseline[name].astype(np.float64))
             out[f"change_{name}"] = diff.astype(np.float32)

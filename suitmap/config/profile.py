@@ -11,10 +11,11 @@ from __future__ import annotations
 
 import math
 import re
-from dataclasses import asdict, dataclass, field
+from dataclasses import asdict, dataclass, field, replace
 from pathlib import Path
 from typing import Any
 
+from suitmap.config.biology import BIOLOGY_SCHEMA, Biology, parse_biology
 from suitmap.config.toml_file import read_toml
 from suitmap.errors import ProfileError
 from suitmap.kernels.degree_days import CUTOFFS, METHODS
@@ -84,11 +85,14 @@ class Profile:
     season: Season = field(default_factory=Season)
     suitability: Suitability = field(default_factory=Suitability)
     path: str = ""
+    biology: Biology = field(default_factory=Biology)   # [moisture], [[stage]], biofix, [diapause]
 
     def to_dict(self) -> dict[str, Any]:
         """Plain dict of the profile (for provenance metadata)."""
         d = asdict(self)
         d.pop("path")
+        d.pop("biology")
+        d.update(self.biology.to_dict())   # nothing added when the tables are absent
         s = d["season"]
         for k in ("start", "end"):
             s[k] = None if s[k] is None else f"{s[k][0]:02d}-{s[k][1]:02d}"
@@ -100,6 +104,7 @@ class Profile:
 
 # key -> (types, required)
 _SCHEMA: dict[str, dict[str, tuple[tuple[type, ...], bool]]] = {
+    **BIOLOGY_SCHEMA,
     "organism": {"name": ((str,), True), "role": ((str,), False), "source": ((str,), False)},
     "development": {
         "lower_threshold": ((int, float), True),
@@ -111,7 +116,7 @@ _SCHEMA: dict[str, dict[str, tuple[tuple[type, ...], bool]]] = {
         "rate_curve": ((dict,), False),
     },
     "survival": {"lethal_cold": ((int, float), False), "lethal_heat": ((int, float), False)},
-    "season": {"start": ((str,), False), "end": ((str,), False)},
+    "season": {"start": ((str,), False), "end": ((str,), False), "biofix": ((str, dict), False)},
     "suitability": {"saturating_generations": ((int, float), False)},
 }
 _REQUIRED_TABLES = ("organism", "development")
@@ -203,6 +208,8 @@ def _rate_curve(raw: dict | None, where: str) -> RateCurve | None:
 
 def profile_from_dict(raw: dict[str, Any], where: str = "profile") -> Profile:
     """Validate a profile given as a dict (as read from TOML)."""
+    raw = dict(raw)
+    stage_raw = raw.pop("stage", None)
     for table in raw:
         if table not in _SCHEMA:
             raise ProfileError(
@@ -285,7 +292,9 @@ def profile_from_dict(raw: dict[str, Any], where: str = "profile") -> Profile:
     if not sat > 0:
         raise ProfileError(f"{where}: suitability.saturating_generations must be positive, got {sat}")
 
-    return Profile(organism, development, survival, season, Suitability(sat), path=str(where))
+    biology = parse_biology(raw, stage_raw, seas.get("biofix"), development, where, _check_table)
+    return Profile(organism, development, survival, season, Suitability(sat), path=str(where),
+                   biology=biology)
 
 
 def load_profile(path: str | Path) -> Profile:
@@ -299,5 +308,4 @@ def load_profile(path: str | Path) -> Profile:
     path = Path(path)
     raw = read_toml(path, ProfileError, "profile")
     prof = profile_from_dict(raw, where=f"profile {path}")
-    return Profile(prof.organism, prof.development, prof.survival, prof.season,
-                   prof.suitability, path=str(path))
+    return replace(prof, path=str(path))

@@ -11,6 +11,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
+from suitmap.config.geography import Geography, geography_from_dict
 from suitmap.config.toml_file import read_toml
 from suitmap.errors import RunFileError
 
@@ -39,6 +40,9 @@ class Period:
     delta: "DeltaChange | None" = None  # delta-change downscaling onto the baseline
     reference: str | None = None  # period its change is measured against (None: the baseline)
     change_against: str | None = None  # "model_historical"/"observations" when a set chose it
+    pr: ClimateSource | None = None     # precipitation (daily or monthly), for [moisture]
+    tmin_offset: tuple[float, ...] | None = None   # what-if: °C added, 1 value or 12 monthly
+    tmax_offset: tuple[float, ...] | None = None
 
 
 @dataclass(frozen=True)
@@ -50,6 +54,15 @@ class DeltaChange:
     historical_years: tuple[int, int]
     smoothing: str = "doy"        # "doy" (smoothed day-of-year) or "monthly"
     window_days: int = 31
+
+
+@dataclass(frozen=True)
+class Mismatch:
+    """Two organisms out of step: event of a second profile minus an event of the run's own."""
+
+    profile_path: Path
+    event: str = "first_generation_day"            # a layer of the second profile
+    reference_event: str = "first_generation_day"  # a layer of the run's profile
 
 
 @dataclass(frozen=True)
@@ -74,6 +87,10 @@ class RunFile:
     threads: int | None = None
     diurnal: str | None = None    # overrides the profile's development.diurnal
     accept_implausible: bool = False  # let suspicious (not impossible) temperatures pass
+    mismatch: Mismatch | None = None
+    parameter_draws: int | None = None    # draws of the profile's [uncertainty]
+    parameter_seed: int = 0
+    geography: "Geography | None" = None  # [regions], [terrain], [ranges]
     raw: dict[str, Any] = field(default_factory=dict, compare=False, repr=False)
     inventory: tuple[str, ...] = ()   # scenario sets: model × pathway × period found/missing
 
@@ -121,8 +138,11 @@ def _period(table: Any, name_key: str, base: Path, where: str, kind: str,
             default_name: str | None = None) -> Period:
     if not isinstance(table, dict):
         raise RunFileError(f"{where}: [{name_key}] must be a table")
-    _keys(table, ("name", "years", "tmin", "tmax", "model", "pathway", "period", "downscale"),
-          where, name_key)
+    _keys(table, ("name", "years", "tmin", "tmax", "pr", "model", "pathway", "period", "downscale",
+                  "tmin_offset", "tmax_offset"), where, name_key)
+    if "pr" in table and "downscale" in table:
+        raise RunFileError(f"{where}: {name_key}.pr cannot be combined with downscale yet; "
+                           "give the scenario's own tmin/tmax/pr files or leave pr out")
     for key in ("model", "pathway", "period"):
         if key in table and not (isinstance(table[key], str) and _NAME.match(table[key])):
             raise RunFileError(f"{where}: {name_key}.{key} must be a short name (at most 64 letters, digits, '-', '_', '.'), got {table[key]!r:.80}")
@@ -153,7 +173,23 @@ def _period(table: Any, name_key: str, base: Path, where: str, kind: str,
         pathway=table.get("pathway"),
         period=table.get("period"),
         delta=_delta(table.get("downscale"), f"{name_key}.downscale", base, where),
+        pr=_source(table["pr"], f"{name_key}.pr", base, where) if "pr" in table else None,
+        tmin_offset=_offset(table.get("tmin_offset"), f"{name_key}.tmin_offset", where),
+        tmax_offset=_offset(table.get("tmax_offset"), f"{name_key}.tmax_offset", where),
     )
+
+
+def _offset(value: Any, key: str, where: str) -> tuple[float, ...] | None:
+    """A what-if temperature change: one number (°C) or twelve, January to December."""
+    if value is None:
+        return None
+    values = value if isinstance(value, list) else [value]
+    if (len(values) not in (1, 12) or not all(
+            isinstance(v, (int, float)) and not isinstance(v, bool) for v in values)):
+        raise RunFileError(f"{where}: {key} must be a number of °C or a list of 12 monthly values")
+    if any(abs(v) > 20 for v in values):
+        raise RunFileError(f"{where}: {key} beyond ±20 °C is not a plausible what-if change")
+    return tuple(float(v) for v in values)
 
 
 def _delta(raw: Any, key: str, base: Path, where: str) -> DeltaChange | None:
@@ -227,7 +263,8 @@ def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
     """Validate a run file given as a dict; ``path`` anchors relative paths."""
     where = f"run file {path}"
     base = path.parent
-    _keys(raw, ("profile", "baseline", "scenario", "scenario_set", "output", "compute"), where, "")
+    _keys(raw, ("profile", "baseline", "scenario", "scenario_set", "output", "compute", "mismatch",
+                "regions", "terrain", "ranges"), where, "")
     prof = raw.get("profile")
     if isinstance(prof, dict) and isinstance(prof.get("library"), str) and "path" not in prof:
         from suitmap.config import library
@@ -254,6 +291,10 @@ def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
     scenarios = tuple(
         _period(s, f"scenario[{i}]", base, where, "scenario") for i, s in enumerate(scen_raw)
     ) + tuple(set_scenarios)
+    with_pr = [p.name for p in (baseline, *scenarios) if p.pr is not None]
+    if with_pr and len(with_pr) != 1 + len(scenarios):
+        raise RunFileError(f"{where}: pr (precipitation) is given for {', '.join(with_pr)} but not "
+                           "for every period; give pr files for all periods or for none")
     names = [baseline.name] + [s.name for s in scenarios]
     dupes = sorted({n for n in names if names.count(n) > 1})
     if dupes:
@@ -291,10 +332,15 @@ def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
     if not isinstance(compute, dict):
         raise RunFileError(f"{where}: [compute] must be a table")
     _keys(compute, ("chunk_cells", "monthly_route", "daily_sd", "fast_tables", "threads",
-                    "diurnal", "accept_implausible"), where, "compute")
+                    "diurnal", "accept_implausible", "parameter_draws", "parameter_seed"), where,
+                   "compute")
     accept = compute.get("accept_implausible", False)
     if not isinstance(accept, bool):
         raise RunFileError(f"{where}: compute.accept_implausible must be true or false")
+    draws, seed = compute.get("parameter_draws"), compute.get("parameter_seed", 0)
+    for key, v, lo in (("parameter_draws", draws, 2), ("parameter_seed", seed, 0)):
+        if v is not None and (isinstance(v, bool) or not isinstance(v, int) or v < lo):
+            raise RunFileError(f"{where}: compute.{key} must be a whole number of at least {lo}")
     fast = compute.get("fast_tables", True)
     if not isinstance(fast, bool):
         raise RunFileError(f"{where}: compute.fast_tables must be true or false")
@@ -322,7 +368,30 @@ def runfile_from_dict(raw: dict[str, Any], path: Path) -> RunFile:
                    scenarios=scenarios, output=output, chunk_cells=chunk, monthly_route=route,
                    daily_sd=None if sd is None else float(sd), fast_tables=fast,
                    threads=threads, diurnal=diurnal, accept_implausible=accept, raw=raw,
-                   inventory=tuple(inventory))
+                   inventory=tuple(inventory),
+                   mismatch=_mismatch(raw.get("mismatch"), base, where),
+                   parameter_draws=draws, parameter_seed=seed,
+                   geography=geography_from_dict(raw, base, where))
+
+
+_EVENT = re.compile(r"^first_[a-z][a-z0-9_]*_day$")
+
+
+def _mismatch(raw: Any, base: Path, where: str) -> Mismatch | None:
+    if raw is None:
+        return None
+    if not isinstance(raw, dict):
+        raise RunFileError(f"{where}: [mismatch] must be a table")
+    _keys(raw, ("profile", "event", "reference_event"), where, "mismatch")
+    if not isinstance(raw.get("profile"), str):
+        raise RunFileError(f"{where}: mismatch.profile must name the second organism's profile .toml")
+    for key in ("event", "reference_event"):
+        value = raw.get(key, "first_generation_day")
+        if not isinstance(value, str) or not _EVENT.match(value):
+            raise RunFileError(f"{where}: mismatch.{key} must be an event layer, "
+                               f"first_generation_day or first_<stage>_day, got {value!r}")
+    return Mismatch(Path(_resolve(base, raw["profile"])), raw.get("event", "first_generation_day"),
+                    raw.get("reference_event", "first_generation_day"))
 
 
 def load_run(path: str | Path) -> RunFile:

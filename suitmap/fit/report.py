@@ -132,6 +132,9 @@ def write_profile_toml(result: FitResult, data: LabData, path: str | Path, *,
         lo, hi = result.ci95[key]
         lines.append(f"{key} = {_toml_float(result.params[key], key)}"
                      f"  # 95 % CI {lo:.6g} to {hi:.6g}")
+    lines += ["", "[tested_range]  # the lab data's rearing temperatures (outside_tested_range)",
+              f"min_temperature = {_toml_float(float(np.min(data.temperature)), 'min_temperature')}",
+              f"max_temperature = {_toml_float(float(np.max(data.temperature)), 'max_temperature')}"]
     text = "\n".join(lines) + "\n"
     with atomic_path(path) as tmp:
         tmp.write_text(text, encoding="utf-8")

@@ -335,16 +335,40 @@ def period_layers(stats: xr.Dataset, profile: Profile) -> xr.Dataset:
 
 
 def compute_layers(tmin: xr.DataArray, tmax: xr.DataArray, profile: Profile,
-                   years: tuple[int, int], *, label: str = "", fast: bool = True) -> xr.Dataset:
+                   years: tuple[int, int], *, label: str = "", fast: bool = True,
+                   pr: xr.DataArray | None = None) -> xr.Dataset:
     """Lazy output layers (dims ``y, x``) of one period; CRS copied from the input.
 
     ``fast``: rate summation uses precomputed tables (within 1e-3 of the
     exact integral; see :mod:`suitmap.kernels.tables`) and sine degree-days
     the float32 closed form (within about 1e-5 °C·day a day;
-    :mod:`suitmap.kernels.degree_days32`).
+    :mod:`suitmap.kernels.degree_days32`).  ``pr``: precipitation (mm/day) for the
+    moisture layers (:mod:`suitmap.layers.moisture`); [[stage]] tables add the
+    life-stage layers (:mod:`suitmap.layers.stages`).
     """
     stats = season_statistics(tmin, tmax, profile, years, label=label, fast=fast)
     ds = period_layers(stats, profile)
+    if profile.biology.stages:
+        from suitmap.layers.stages import apply_stages
+
+        ds = apply_stages(ds, tmin, tmax, profile, years, lat=cell_latitudes(tmin.isel(time=0)),
+                          windows=season_windows(profile), label=label)
+    if pr is not None:
+        from suitmap.layers.moisture import apply_moisture
+
+        ds = apply_moisture(ds, pr, tmin, tmax, cell_latitudes(tmin.isel(time=0)), years,
+                            profile.biology.moisture, label=label)
+    if profile.biology.tested_range is not None:
+        from suitmap.layers.tested_range import add_outside_tested_range
+
+        ds = add_outside_tested_range(ds, tmin, tmax, profile, years)
+    if pr is None and profile.biology.moisture is not None:
+        import warnings
+
+        from suitmap.errors import SuitmapWarning
+
+        warnings.warn(f"{label or 'period'}: the profile has [moisture] but no precipitation (pr) "
+                      "is given; suitability is not limited by moisture", SuitmapWarning, stacklevel=2)
     crs = tmin.rio.crs
     for c in ("x", "y"):
         ds[c].attrs = dict(tmin[c].attrs)

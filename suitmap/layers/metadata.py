@@ -9,10 +9,17 @@ from __future__ import annotations
 
 from typing import Any
 
+from suitmap.layers.metadata_biology import BIOLOGY_LAYER_ATTRS, stage_layer_attrs
+from suitmap.spatial.dispersal import RANGE_CHANGE_CLASSES
+
 #: Class layers: names in code order (code = index); 255 marks missing cells.
 LIMITING_FACTOR_CLASSES = ("none", "too_cool", "too_hot", "cold_kill", "heat_kill")
+#: Classes appended to LIMITING_FACTOR_CLASSES when a profile has [moisture] (codes 5, 6).
+MOISTURE_CLASSES = ("too_dry", "too_wet")
 CHANGE_CLASSES = ("stays_unsuitable", "becomes_suitable", "stays_suitable", "becomes_unsuitable")
-CLASS_LAYERS = {"limiting_factor": LIMITING_FACTOR_CLASSES, "change_class": CHANGE_CLASSES}
+RELOCATION_CLASSES = ("not_candidate", "candidate")
+CLASS_LAYERS = {"limiting_factor": LIMITING_FACTOR_CLASSES, "change_class": CHANGE_CLASSES,
+                "range_change": RANGE_CHANGE_CLASSES, "relocation_candidates": RELOCATION_CLASSES}
 #: ``robust_change_<layer>`` of an ensemble (rule: suitmap.comparison.robustness).
 ROBUST_CHANGE_CLASSES = ("no_robust_signal", "robust", "conflicting_signals")
 MISSING_CLASS = 255
@@ -80,11 +87,25 @@ LAYER_ATTRS: dict[str, dict[str, Any]] = {
         "flag_values": list(range(len(LIMITING_FACTOR_CLASSES))),
         "flag_meanings": " ".join(LIMITING_FACTOR_CLASSES),
     },
+    **BIOLOGY_LAYER_ATTRS,
     "change_class": {
         "units": "1",
         "long_name": "change of suitable status between baseline and scenario",
         "flag_values": list(range(len(CHANGE_CLASSES))),
         "flag_meanings": " ".join(CHANGE_CLASSES),
+    },
+    "range_change": {
+        "units": "1",
+        "long_name": "change of the suitable range between baseline and scenario, gains split by "
+                     "whether they lie within the dispersal distance of the baseline range",
+        "flag_values": list(range(len(RANGE_CHANGE_CLASSES))),
+        "flag_meanings": " ".join(RANGE_CHANGE_CLASSES),
+    },
+    "relocation_candidates": {
+        "units": "1",
+        "long_name": "suitable in the scenario but beyond the dispersal distance of the baseline range",
+        "flag_values": [0, 1],
+        "flag_meanings": " ".join(RELOCATION_CLASSES),
     },
 }
 
@@ -105,12 +126,18 @@ NUMERIC_LAYERS = (
     "years_with_generation", "cold_kill_days", "heat_kill_days",
     "development_score", "survival_score", "suitability",
 )
+#: Numeric layers present only with precipitation or [diapause]; compared like the above.
+OPTIONAL_NUMERIC_LAYERS = ("annual_precipitation", "dry_months", "aridity_index",
+                           "moisture_score", "generations_before_diapause", "mismatch_days")
 
 
 def layer_attrs(name: str) -> dict[str, Any]:
     """Attributes of layer ``name``; ``change_<layer>`` gets the layer's units."""
     if name in LAYER_ATTRS:
         return dict(LAYER_ATTRS[name])
+    if name.startswith(("first_", "years_with_", "probability_generations_ge_")) and not \
+            name.startswith("first_generation"):
+        return stage_layer_attrs(name)
     if name.startswith("change_"):
         base = LAYER_ATTRS[name[len("change_"):]]
         extra = {k: base[k] for k in ("units_metadata",) if k in base}

@@ -17,7 +17,6 @@ import numpy as np
 import xarray as xr
 
 from suitmap import climate
-from suitmap.comparison.change import compare
 from suitmap.climate.time_axis import check_same_calendar
 from suitmap.errors import InputError, SuitmapWarning
 from suitmap.layers.compute import compute_layers, season_windows
@@ -26,7 +25,9 @@ from suitmap.pipeline.folder import period_key
 from suitmap.config.runfile import Period, RunFile, load_run
 from suitmap.pipeline.preflight import (check_output_names, comparison_name, ensemble_name,  # noqa: F401
                                         named_read_errors)
+from suitmap.pipeline.derive import change_name, derive, ensemble_groups, snap_layers  # noqa: F401
 from suitmap.pipeline.scheduling import threads
+from suitmap.pipeline.whatif import apply_offsets, describe
 
 #: Target size (bytes) of one spatial chunk of one daily variable in float32.
 CHUNK_BYTES = 32 * 2**20
@@ -50,6 +51,7 @@ class PeriodClimate:
     qa: "climate.ClimateQA | None" = None
     files: dict[str, list[str]] = field(default_factory=dict)
     notes: list[str] = field(default_factory=list)
+    pr: "xr.DataArray | None" = None   # precipitation, mm/day (daily or monthly)
 
 
 def _as_run(run: RunFile | str | Path) -> RunFile:
@@ -152,7 +154,12 @@ def open_period(period: Period, profile: Profile, *, chunk_cells: int | None = N
     tmax = tmax.chunk(dict(zip(tmax.dims, tmin.chunks)))  # the same blocks as tmin
     report = climate.qa_summary(tmin, tmax, period.name) if qa else None
     tmin, tmax, swapped = _swap_lazily(tmin, tmax)
-    return PeriodClimate(period, tmin, tmax, swapped, report, files)
+    pc = PeriodClimate(period, tmin, tmax, swapped, report, files)
+    if period.pr is not None:
+        from suitmap.pipeline.precipitation import open_period_precipitation
+
+        open_period_precipitation(pc, chunk_side(366, chunk_cells))
+    return pc
 
 
 def _swap_lazily(tmin: xr.DataArray, tmax: xr.DataArray):
@@ -181,6 +188,9 @@ def check_run(run: RunFile | str | Path) -> tuple[RunFile, Profile, list[PeriodC
     run = _as_run(run)
     check_output_names(run)
     profile = effective_profile(run)
+    from suitmap.pipeline.regions import check_geography
+
+    check_geography(run)  # [regions] and [terrain] files
     opened = []
     for period in run.periods:
         pc = open_period(period, profile, chunk_cells=run.chunk_cells, qa=True,
@@ -250,6 +260,13 @@ def compute_run(run: RunFile | str | Path) -> RunLayers:
     keys: dict[str, str] = {}
     template = None
     base_clim = None
+    other = None
+    extra_key = {}
+    if run.mismatch is not None:
+        from suitmap.pipeline.mismatch import second_profile
+
+        other = second_profile(run, profile)
+        extra_key = {"mismatch": [other.to_dict(), run.mismatch.event, run.mismatch.reference_event]}
     for period in run.periods:
         if period.delta is not None:
             pc = delta_downscaled(period, base_clim, profile, run.accept_implausible)
@@ -261,9 +278,16 @@ def compute_run(run: RunFile | str | Path) -> RunLayers:
             years = period.years
         if base_clim is None:
             base_clim = pc
+        if describe(period):   # what-if offsets; delta scenarios keep the unmodified baseline days
+            pc = replace(pc, notes=list(pc.notes))
+            apply_offsets(pc)
         if pc.tmin.attrs.get("frequency") == "monthly":  # the quick "normal" route
             from suitmap.layers.monthly_normal import normal_route_layers
 
+            if pc.pr is not None or profile.biology.stages or run.mismatch is not None:
+                raise InputError("precipitation (pr), [[stage]] tables and [mismatch] need daily "
+                                 "temperatures or monthly_route = \"interpolate\"; the \"normal\" "
+                                 "route has no moisture, stage or mismatch layers yet")
             if run.daily_sd is None:
                 raise InputError("monthly_route = \"normal\" needs [compute] daily_sd (the standard "
                                  "deviation of daily mean temperature within a month, °C)")
@@ -271,9 +295,23 @@ def compute_run(run: RunFile | str | Path) -> RunLayers:
             ds.attrs["period"] = period.name
         else:
             ds = compute_layers(pc.tmin, pc.tmax, profile, years, label=period.name,
-                                fast=run.fast_tables)
+                                fast=run.fast_tables, pr=pc.pr)
             if "monthly_route" in pc.tmin.attrs:
                 ds.attrs["monthly_route"] = pc.tmin.attrs["monthly_route"]
+            if run.parameter_draws and profile.biology.uncertainty is None:
+                from suitmap.errors import RunFileError
+
+                raise RunFileError(f"run file {run.path}: compute.parameter_draws needs an "
+                                   "[uncertainty] table (parameters, covariance) in the profile")
+            if run.parameter_draws:
+                from suitmap.pipeline.uncertainty import add_probability_layers
+
+                ds = add_probability_layers(ds, pc.tmin, pc.tmax, profile, years, run,
+                                            label=period.name)
+            if run.mismatch is not None:   # a second organism on the same climate
+                from suitmap.pipeline.mismatch import add_mismatch
+
+                ds = add_mismatch(ds, pc.tmin, pc.tmax, other, years, run, label=period.name)
         if period.delta is not None:
             ds.attrs["downscaling"] = (f"delta change, {period.delta.smoothing} deltas "
                                        f"(window {period.delta.window_days} d) of model years "
@@ -289,13 +327,17 @@ def compute_run(run: RunFile | str | Path) -> RunLayers:
             template = ds  # the baseline's grid is the template of every comparison
         else:
             ds = snap_layers(ds, template)
+        if describe(period):
+            ds.attrs["temperature_offsets"] = describe(period)
         ds["tmin_tmax_swapped_cell_days"] = pc.swapped
         periods[period.name] = ds
         inputs[period.name] = pc.files
         keys[period.name] = period_key(profile.to_dict(), period, pc.files,
                                        None if period is run.baseline else inputs[run.baseline.name],
                                        {"monthly_route": run.monthly_route, "daily_sd": run.daily_sd,
-                                        "fast_tables": run.fast_tables})
+                                        "fast_tables": run.fast_tables, **extra_key,
+                                        **({"draws": [run.parameter_draws, run.parameter_seed]}
+                                           if run.parameter_draws else {})})
     comps, ensembles = derive(run, periods)
     return RunLayers(run, profile, periods, comps, inputs, ensembles, keys)
 
@@ -304,6 +346,12 @@ def finish_period(ds: xr.Dataset) -> xr.Dataset:
     """Move the computed Tmin > Tmax count from a variable to an attribute (warning if > 0)."""
     if "tmin_tmax_swapped_cell_days" not in ds:
         return ds
+    if "outside_tested_range" in ds and float(ds["outside_tested_range"].sum()) > 0:
+        cells = int(ds["outside_tested_range"].sum())
+        warnings.warn(f"period '{ds.attrs.get('period')}': in {cells} cells the daily mean "
+                      f"temperature leaves the profile's tested range ({ds.attrs.get('tested_range')}); "
+                      "development there is extrapolated (layer outside_tested_range)",
+                      SuitmapWarning, stacklevel=2)
     n = int(ds["tmin_tmax_swapped_cell_days"].values)
     ds = ds.drop_vars("tmin_tmax_swapped_cell_days")
     ds.attrs["tmin_tmax_swapped_cell_days"] = n
@@ -311,92 +359,6 @@ def finish_period(ds: xr.Dataset) -> xr.Dataset:
         warnings.warn(f"period '{ds.attrs.get('period')}': {n} cell-days had Tmin > Tmax; the two "
                       "values were swapped there", SuitmapWarning, stacklevel=2)
     return ds
-
-
-def change_name(scen: Period, run: RunFile) -> str:
-    """Name of a scenario's comparison: against its reference period, else the baseline."""
-    return comparison_name(scen.name, scen.reference or run.baseline.name)
-
-
-def derive(run: RunFile, periods: dict[str, xr.Dataset]):
-    """Comparisons, model bias layers and ensembles from period layers (lazy or computed).
-
-    A model's historical run gives ``model_bias_<layer>`` against the baseline; a
-    scenario with a ``reference`` (its model's historical run) is compared with
-    it; the route is recorded on every output (:mod:`suitmap.comparison.reference`).
-    """
-    from suitmap.comparison.reference import label_route, model_bias, route_of
-
-    comps = {}
-    base = periods[run.baseline.name]
-    for scen in run.scenarios:
-        name = change_name(scen, run)
-        if scen.kind == "historical":
-            comps[name] = model_bias(base, periods[scen.name])
-            continue
-        ref = scen.reference or run.baseline.name
-        comps[name] = label_route(compare(periods[ref], periods[scen.name],
-                                          suitable_level=run.output.suitable_level),
-                                  route_of(scen), ref)
-    return comps, ensemble_groups(run, periods, comps)
-
-
-def snap_layers(ds: xr.Dataset, template: xr.Dataset) -> xr.Dataset:
-    """Put a period's layers on the template grid (bilinear; nearest/mode for classes)."""
-    from suitmap.spatial.regrid import grid_description, grids_match, snap_to_grid
-    from suitmap.writers.styles import is_class_layer
-
-    if grids_match(ds, template):
-        return ds
-    out = {}
-    for name, da in ds.data_vars.items():
-        kind = "class" if is_class_layer(name, da.attrs) else "continuous"
-        snapped = snap_to_grid(da, template, kind=kind)
-        snapped.attrs = {**da.attrs, "suitmap_regrid": snapped.attrs.get(
-            "suitmap_regrid", f"{'mode/nearest' if kind == 'class' else 'bilinear'} from "
-            f"{grid_description(ds)}")}
-        out[name] = snapped
-    snapped_ds = xr.Dataset(out, attrs={**ds.attrs, "regridded_from": grid_description(ds)})
-    for c in ("x", "y"):
-        snapped_ds[c].attrs = dict(template[c].attrs)
-    return snapped_ds.rio.write_crs(template.rio.crs)
-
-
-def ensemble_groups(run: RunFile, periods: dict[str, xr.Dataset],
-                    comps: dict[str, xr.Dataset]) -> dict[str, xr.Dataset]:
-    """Ensemble statistics per (pathway, period) over the scenarios' climate models.
-
-    Scenarios without ``model``/``pathway``/``period`` labels, and groups of a
-    single model, have no ensemble.
-    """
-    from suitmap.comparison.ensemble import ensemble_stats
-
-    from suitmap.comparison.reference import ROUTE_NOTES, route_of
-
-    groups: dict[tuple[str, str], dict[str, Period]] = {}
-    for scen in run.scenarios:
-        if scen.model and scen.pathway and scen.period and scen.kind != "historical":
-            groups.setdefault((scen.pathway, scen.period), {})[scen.model] = scen
-    out = {}
-    for (pathway, period), members in sorted(groups.items()):
-        if len(members) < 2:
-            continue
-        layers = ensemble_stats({m: periods[s.name] for m, s in members.items()},
-                                agreement_level=run.output.agreement_level)
-        changes = ensemble_stats({m: comps[change_name(s, run)] for m, s in members.items()},
-                                 agreement_level=run.output.agreement_level)
-        routes = sorted({route_of(s) for s in members.values()})
-        route = routes[0] if len(routes) == 1 else "mixed: " + ", ".join(routes)
-        for v in changes.data_vars:
-            changes[v].attrs["change_reference"] = route
-        ds = xr.merge([layers, changes], combine_attrs="override", compat="override")
-        ds.attrs.update({"pathway": pathway, "period": period, "models": ", ".join(sorted(members)),
-                         "n_models": len(members), "baseline": run.baseline.name,
-                         "change_reference": route,
-                         "change_reference_note": ROUTE_NOTES.get(route, "models compared with "
-                                                                  "different references")})
-        out[ensemble_name(pathway, period)] = ds
-    return out
 
 
 def _compute_one(ds: xr.Dataset, client, progress: bool, label: str) -> xr.Dataset:
@@ -449,6 +411,9 @@ def run(run: RunFile | str | Path, *, overwrite: bool = False, progress: bool = 
     check_output_names(run)
     folder = OutputFolder(run.output.dir, run.path, overwrite)
     folder.check()
+    from suitmap.pipeline.regions import check_geography
+
+    check_geography(run)  # [regions] and [terrain] files readable before any work
     lazy = compute_run(run)
     periods: dict[str, xr.Dataset] = {}
     with folder, dask.config.set(num_workers=threads(run.threads)):
@@ -465,6 +430,9 @@ def run(run: RunFile | str | Path, *, overwrite: bool = False, progress: bool = 
                 periods[name] = got
         comps, ens = derive(run, periods)
         layers = RunLayers(run, lazy.profile, periods, comps, lazy.inputs, ens, lazy.keys)
+        from suitmap.pipeline.regions import add_range_layers
+
+        layers = add_range_layers(layers)  # [ranges] dispersal_km_per_year: range_change layers
         manifest = write_outputs(layers, folder=folder)
         mark_finished(run)
         return manifest

@@ -42,6 +42,9 @@ def prepare_demo(out: str | Path = "suitmap-demo", *, overwrite: bool = False) -
         shutil.copy2(src / RUN_FILE, tmp / RUN_FILE)
         shutil.copytree(src / "profiles", tmp / "profiles")
         shutil.copytree(src / "climate", tmp / "climate")
+        for extra in ("regions", "terrain"):  # invented districts and relief
+            if (src / extra).is_dir():
+                shutil.copytree(src / extra, tmp / extra)
         readme = src / "README.md"
         if readme.is_file():
             shutil.copy2(readme, tmp / "ABOUT_THE_DATA.md")

@@ -48,8 +48,12 @@ def period_key(profile_dict: dict, period, files: dict[str, list[str]],
         "suitmap": __version__,
         "profile": profile_dict,
         "period": {"name": period.name, "years": list(period.years), "kind": period.kind,
-                   "variables": [period.tmin.variable, period.tmax.variable],
-                   "delta": repr(period.delta)},
+                   "variables": [period.tmin.variable, period.tmax.variable]
+                   + ([period.pr.variable] if getattr(period, "pr", None) else []),
+                   "delta": repr(period.delta),
+                   **({"offsets": [period.tmin_offset, period.tmax_offset]}
+                      if getattr(period, "tmin_offset", None) or getattr(period, "tmax_offset", None)
+                      else {})},
         "files": {role: [_file_signature(f) for f in fs] for role, fs in sorted(files.items())},
         "template": {role: [_file_signature(f) for f in fs]
                      for role, fs in sorted((template_files or {}).items())},

@@ -220,6 +220,9 @@ def write_outputs(layers, *, overwrite: bool = False, folder=None) -> Path:
         inputs = "models: " + str(ds.attrs.get("models", ""))
         _write_group(ds, root / name, name, "ensemble", formats, manifest, history, prov,
                      inputs, organism, pv.group_info(layers, name, "ensemble", ds))
+    from suitmap.pipeline.regions import write_region_outputs
+
+    write_region_outputs(layers, root, manifest)  # regions.csv/.gpkg, ranges.csv ([regions], [ranges])
     readme = atomic_write_text(root / "README.txt", _readme_text(layers))
     manifest.add(readme, layer="readme", period_or_comparison="all", format="text")
     listed = {e.path for e in manifest.entries}
