@@ -219,6 +219,14 @@ def test_first_generation_day_never_is_not_no_data(demo):
         assert ds["first_generation_day"].attrs["ancillary_variables"] == \
             "first_generation_day_status"
         assert ds["first_generation_day_status"].attrs["flag_meanings"] == "occurs never"
+    # the change layer: empty where the event never happens in a period, and says which case
+    comp = folder / "results" / "model-a_mid-century_vs_baseline"
+    with rasterio.open(folder / "results" / "model-a_mid-century" / "first_generation_day_status.tif") as s, \
+            rasterio.open(comp / "change_first_generation_day_status.tif") as c:
+        scen, change = s.read(1), c.read(1)
+    assert ((change == 2) == ((status == 1) & (scen == 0))).all()  # starts in the scenario
+    assert ((change == 1) == ((status == 1) & (scen == 1))).all()  # never in both
+    assert (change[lake] == 255).all()
 
 
 def test_netcdf_outputs_pass_the_cf_checker(demo, tmp_path):

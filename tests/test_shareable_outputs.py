@@ -343,3 +343,14 @@ def test_check_of_a_batch_without_grid_mapping_warns_once(tmp_path):
     assert len(lines) == 2, proc.stderr  # one per variable (their texts differ), not one per file
     assert "4 files" in lines[0] and "tmin_2001.nc" in lines[0]
     assert "4 files" in lines[1] and "tmax_2001.nc" in lines[1]
+
+
+def test_change_of_an_event_day_says_where_it_starts_or_stops():
+    from suitmap.layers.events import change_event_status
+
+    # baseline / scenario flags: 0 occurs, 1 never, 255 no data
+    base = xr.DataArray([[0, 1, 1, 0, 255]], dims=("y", "x"))
+    scen = xr.DataArray([[0, 1, 0, 1, 255]], dims=("y", "x"))
+    flag = change_event_status(base, scen)
+    assert flag.values.tolist() == [[0, 1, 2, 3, 255]]
+    assert flag.attrs["flag_meanings"] == "occurs_in_both never_in_both starts stops"

@@ -27,7 +27,8 @@ import xarray as xr
 
 from suitmap._version import __version__
 from suitmap.errors import OutputError
-from suitmap.layers.events import add_event_status, is_event_day_layer, status_name
+from suitmap.layers.events import (add_change_event_status, add_event_status,
+                                   is_event_day_layer, status_name)
 from suitmap.pipeline import provenance as pv
 from suitmap.pipeline.provenance import CAUTION
 from suitmap.writers.cog import write_cog
@@ -128,6 +129,8 @@ def _write_group(ds: xr.Dataset, folder: Path, group: str, kind: str, formats, m
             never = None
             if is_event_day_layer(name) and status_name(name) in ds:
                 never = ds[status_name(name)] == 1
+            elif name.startswith("change_") and status_name(name) in ds:  # never in a period
+                never = (ds[status_name(name)] >= 1) & (ds[status_name(name)] <= 3)
             caution = DEFAULT_CAUTION
             if "small_ensemble_caution" in da.attrs:
                 caution += f" Only {da.attrs.get('n_models')} climate models: indicative only."
@@ -165,6 +168,9 @@ def _write_panels(layers, ds, folder: Path, organism: str, info: dict) -> list[P
         never = None
         if is_event_day_layer(name) and status_name(name) in base:
             never = (base[status_name(name)] == 1, scen[status_name(name)] == 1)
+            flag = status_name(f"change_{name}")
+            if flag in ds:
+                never = (*never, (ds[flag] >= 1) & (ds[flag] <= 3))
         title = pv.figure_title(organism, short_label(name), "comparison", info)
         out.append(plot_panels(
             base[name], scen[name], ds[f"change_{name}"], folder / f"panels_{name}.png",
@@ -209,6 +215,9 @@ def write_outputs(layers, *, overwrite: bool = False, folder=None) -> Path:
                            for k, v in layers.inputs.items()
                            if k in (ds.attrs.get("baseline"), ds.attrs.get("scenario")))
         info = pv.group_info(layers, name, "comparison", ds)
+        if info["baseline"] in layers.periods and info["scenario"] in layers.periods:
+            ds = add_change_event_status(ds, layers.periods[info["baseline"]],
+                                         layers.periods[info["scenario"]])
         _write_group(ds, root / name, name, "comparison", formats, manifest, history, prov,
                      inputs, organism, info)
         if "png" in formats:  # baseline | scenario | change, one figure per layer

@@ -96,8 +96,10 @@ def panel_figure(baseline: xr.DataArray, scenario: xr.DataArray, change: xr.Data
         images.append(image)
         drew_never, missing = drew_never or n, missing or m
         ax.set_title(t, fontsize="medium")
-    image, _, m = _draw(axes[2], diff, f"change_{layer}", change.attrs, Normalize(clo, chi))
-    missing = missing or m
+    never_change = never[2] if len(never) > 2 else None
+    image, n, m = _draw(axes[2], diff, f"change_{layer}", change.attrs, Normalize(clo, chi),
+                        never_change)
+    missing, drew_never = missing or m, drew_never or n
     axes[2].set_title(panel_titles[2], fontsize="medium")
     fig.colorbar(images[0], ax=list(axes[:2]), shrink=0.85, pad=0.02,
                  label=label_with_unit(layer, attrs))
@@ -110,7 +112,9 @@ def panel_figure(baseline: xr.DataArray, scenario: xr.DataArray, change: xr.Data
     handles = []
     if drew_never:
         colour = styles.rgb_to_hex(styles.OKABE_ITO[styles.EVENT_STATUS_COLOURS["never"]])
-        handles.append(Patch(facecolor=colour, edgecolor="#555555", label=_NEVER_LABEL))
+        label = _NEVER_LABEL if never_change is None else (
+            "never (in no season; in the change panel: in one period or both)")
+        handles.append(Patch(facecolor=colour, edgecolor="#555555", label=label))
     if missing:
         handles.append(_missing_patch())
     if handles:
