@@ -36,6 +36,7 @@ th{background:#f0f0f0}.caution{border:2px solid #d55e00;background:#fff4ec;paddi
 figure{display:inline-block;margin:.5rem;width:46%;min-width:20rem;vertical-align:top}
 figure img{width:100%;height:auto;border:1px solid #ddd}figcaption{font-size:.85rem}
 code{font-size:.85rem;word-break:break-all}td{overflow-wrap:anywhere}
+table.methods td:nth-child(2){white-space:nowrap}
 table.files td:last-child{font-family:monospace;font-size:.75rem;word-break:break-all}
 @media print{figure{width:47%;page-break-inside:avoid}}
 """
