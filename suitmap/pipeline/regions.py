@@ -295,8 +295,8 @@ def _read_group(files: list[tuple[str, Path, str]]) -> xr.Dataset:
 
     out = {}
     for name, p, f in files:
-        if f != "geotiff":
-            continue
+        if f != "geotiff" or name.endswith("_status"):
+            continue   # <layer>_status only re-encodes its event-day layer's never/missing cells
         da = rioxarray.open_rasterio(p, masked=True).squeeze("band", drop=True).load()
         try:
             attrs = layer_attrs(name)
