@@ -27,7 +27,8 @@ import xarray as xr
 
 from suitmap._version import __version__
 from suitmap.errors import OutputError
-from suitmap.layers.events import add_event_status, is_event_day_layer, status_name
+from suitmap.layers.events import (add_change_event_status, add_event_status,
+                                   is_event_day_layer, status_name)
 from suitmap.pipeline import provenance as pv
 from suitmap.pipeline.provenance import CAUTION
 from suitmap.writers.cog import write_cog
@@ -129,6 +130,8 @@ def _write_group(ds: xr.Dataset, folder: Path, group: str, kind: str, formats, m
             never = None
             if is_event_day_layer(name) and status_name(name) in ds:
                 never = ds[status_name(name)] == 1
+            elif name.startswith("change_") and status_name(name) in ds:  # never in a period
+                never = (ds[status_name(name)] >= 1) & (ds[status_name(name)] <= 3)
             caution = DEFAULT_CAUTION
             if "small_ensemble_caution" in da.attrs:
                 caution += f" Only {da.attrs.get('n_models')} climate models: indicative only."
@@ -148,6 +151,34 @@ def _write_group(ds: xr.Dataset, folder: Path, group: str, kind: str, formats, m
                          climatology=pv.climatology_years(info),
                          calendar=str(ds.attrs.get("calendar") or "standard"))
         manifest.add(p, layer="all", period_or_comparison=group, format="netcdf")
+
+
+def _write_panels(layers, ds, folder: Path, organism: str, info: dict) -> list[Path]:
+    from suitmap.writers.panels import plot_panels
+
+    base = layers.periods.get(info["baseline"])
+    scen = layers.periods.get(info["scenario"])
+    if base is None or scen is None:
+        return []
+    base, scen = add_event_status(base), add_event_status(scen)
+    out = []
+    for name in base.data_vars:
+        name = str(name)
+        if f"change_{name}" not in ds or name not in scen:
+            continue
+        never = None
+        if is_event_day_layer(name) and status_name(name) in base:
+            never = (base[status_name(name)] == 1, scen[status_name(name)] == 1)
+            flag = status_name(f"change_{name}")
+            if flag in ds:
+                never = (*never, (ds[flag] >= 1) & (ds[flag] <= 3))
+        title = pv.figure_title(organism, short_label(name), "comparison", info)
+        out.append(plot_panels(
+            base[name], scen[name], ds[f"change_{name}"], folder / f"panels_{name}.png",
+            layer=name, title=title, caution=DEFAULT_CAUTION, never=never,
+            panel_titles=(f"{info['baseline']} {info['baseline_years']}",
+                          f"{info['scenario']} {info['scenario_years']}", "change")))
+    return out
 
 
 def write_outputs(layers, *, overwrite: bool = False, folder=None) -> Path:
@@ -200,8 +231,16 @@ def _write_all(layers, root: Path, formats, manifest: Manifest, history: str, pr
         inputs = "; ".join(f"{k}: " + ", ".join(Path(f).name for f in v.get("tmin", []) + v.get("tmax", []))
                            for k, v in layers.inputs.items()
                            if k in (ds.attrs.get("baseline"), ds.attrs.get("scenario")))
+        info = pv.group_info(layers, name, "comparison", ds)
+        if info["baseline"] in layers.periods and info["scenario"] in layers.periods:
+            ds = add_change_event_status(ds, layers.periods[info["baseline"]],
+                                         layers.periods[info["scenario"]])
         _write_group(ds, root / name, name, "comparison", formats, manifest, history, prov,
-                     inputs, organism, pv.group_info(layers, name, "comparison", ds))
+                     inputs, organism, info)
+        if "png" in formats:  # baseline | scenario | change, one figure per layer
+            for p in _write_panels(layers, ds, root / name, organism, info):
+                manifest.add(p, layer=p.stem.replace("panels_", "", 1),
+                             period_or_comparison=name, format="png")
     for name, ds in layers.ensembles.items():
         ds = ds.assign_attrs(agreement_level=run.output.agreement_level)
         inputs = "models: " + str(ds.attrs.get("models", ""))

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import json
 import os
+import textwrap
 from pathlib import Path
 
 from suitmap._version import __version__
@@ -98,9 +99,10 @@ def figure_title(organism: str, label: str, kind: str, info: dict) -> str:
         when = (f"{info['scenario']} {info['scenario_years']} minus "
                 f"{info['baseline']} {info['baseline_years']}")
     else:
-        when = (f"{info['pathway']} {info['period']} {info['years']}, "
-                f"ensemble of {info['models']}")
-    return f"{organism}: {label}\n{when}"
+        n = len([m for m in str(info.get("models", "")).split(",") if m.strip()])
+        when = f"{info['pathway']} {info['period']} {info['years']}, ensemble of {n} models"
+    # long organism or period names wrap rather than run off an 8-inch figure
+    return "\n".join(textwrap.fill(line, 72) for line in (f"{organism}: {label}", when))
 
 
 def climatology_years(info: dict) -> tuple[int, int] | None:

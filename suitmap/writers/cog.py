@@ -208,7 +208,8 @@ def write_cog(da: xr.DataArray, path: str | os.PathLike, *, layer: str,
             mem.set_band_description(1, layer)
             mem.update_tags(1, **band_tags)
             mem.update_tags(**{**dataset_tags, "layer": layer})
-            unit = "" if is_class else display_unit(da.attrs.get("units"))
+            units = da.attrs.get("units")
+            unit = "" if is_class or units is None else (display_unit(units) or "1")
             if unit:
                 mem.set_band_unit(1, unit)
             if is_class:

@@ -45,6 +45,7 @@ _FIGSIZE = (8.0, 6.0)  # inches
 _DPI = 120
 _MISSING_LABEL = "no data"
 _NEVER_LABEL = "never (climate complete, in no season)"
+_NEVER_CHANGE_LABEL = "undefined: never in one period or both"
 _HATCH = "////"
 
 
@@ -138,7 +139,8 @@ def _plot_continuous(fig, ax, da, layer, values, extent, never=None) -> list:
             ax.imshow(np.ma.masked_where(~never, np.ones(never.shape)),
                       cmap=ListedColormap([colour]), extent=extent, origin="upper",
                       interpolation="nearest", zorder=1.5)
-            handles.append(Patch(facecolor=colour, edgecolor="#555555", label=_NEVER_LABEL))
+            label = _NEVER_CHANGE_LABEL if layer.startswith("change_") else _NEVER_LABEL
+            handles.append(Patch(facecolor=colour, edgecolor="#555555", label=label))
             missing = missing & ~never
     if missing.any():
         handles.append(_missing_patch())

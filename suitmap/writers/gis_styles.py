@@ -11,7 +11,10 @@
 * ``<layer>.tif.aux.xml`` — for class layers only: GDAL's auxiliary file with
   the category names and a thematic raster attribute table (code, class,
   colour), which GDAL, QGIS and ArcGIS read as class labels (a GeoTIFF has
-  no tag of its own for them).
+  no tag of its own for them), and the colour table again with alpha: a TIFF
+  palette holds RGB only, so GDAL reads every entry of the GeoTIFF's own
+  table as opaque; the auxiliary table (which GDAL prefers) makes every code
+  that is not a class, and 255 (no data), transparent.
 
 Colours come from :mod:`suitmap.writers.styles`, so figures, colour tables
 and style files agree.
@@ -131,6 +134,12 @@ def aux_xml_text(layer: str, attrs: Mapping) -> str:
     by_code = {v: m for v, m, _ in classes}
     root = ET.Element("PAMDataset")
     band = ET.SubElement(root, "PAMRasterBand", band="1")
+    ET.SubElement(band, "ColorInterp").text = "Palette"
+    table = ET.SubElement(band, "ColorTable")
+    values, meanings = styles.parse_flags(attrs)
+    for code, rgba in sorted(styles.gdal_colour_table(layer, values, meanings).items()):
+        ET.SubElement(table, "Entry", c1=str(rgba[0]), c2=str(rgba[1]), c3=str(rgba[2]),
+                      c4=str(rgba[3]))
     names = ET.SubElement(band, "CategoryNames")
     for code in range(max(by_code) + 1):
         ET.SubElement(names, "Category").text = by_code.get(code, "")

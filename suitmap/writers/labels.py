@@ -27,7 +27,7 @@ _NAMES = {
     "suitability": "suitability",
     "limiting_factor": "limiting factor",
     "change_class": "change class",
-    "first_generation_day_status": "first generation",
+    "first_generation_day_status": "first generation: occurs or never",
 }
 
 _PREFIXES = (

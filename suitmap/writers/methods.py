@@ -120,7 +120,7 @@ def methods_text(manifest: dict) -> str:
         "lethal temperature limits); a cell is counted suitable at suitability ≥ "
         f"{attrs.get('suitable_level')}. Change layers are scenario minus baseline. "
         f"Parameters are from the organism profile ({attrs.get('profile_file', '')}); its "
-        f"stated source: {organism.get('source') or 'not given'}.",
+        f"stated source: {(organism.get('source') or 'not given').rstrip('.')}.",
         "",
         "These are screening-level estimates; they do not replace the advice of local "
         "plant-protection authorities and licensed practice.",

@@ -36,6 +36,7 @@ th{background:#f0f0f0}.caution{border:2px solid #d55e00;background:#fff4ec;paddi
 figure{display:inline-block;margin:.5rem;width:46%;min-width:20rem;vertical-align:top}
 figure img{width:100%;height:auto;border:1px solid #ddd}figcaption{font-size:.85rem}
 code{font-size:.85rem;word-break:break-all}td{overflow-wrap:anywhere}
+table.methods td:nth-child(2){white-space:nowrap}
 table.files td:last-child{font-family:monospace;font-size:.75rem;word-break:break-all}
 @media print{figure{width:47%;page-break-inside:avoid}}
 """
@@ -131,6 +132,23 @@ def _csv_section(root: Path) -> str:
     return "\n".join(parts)
 
 
+def _markdown_lite(text: str) -> str:
+    """The methods paragraph as HTML: headings, paragraphs and list items only."""
+    out, items = [], []
+    for block in text.split("\n\n"):
+        block = block.strip()
+        if not block or block == "# Methods":
+            continue
+        if block.startswith("## "):
+            out.append(f"<h3>{_esc(block[3:])}</h3>")
+        elif block.startswith("- "):
+            items = [ln[2:] for ln in block.splitlines() if ln.startswith("- ")]
+            out.append("<ul>" + "".join(f"<li>{_esc(i)}</li>" for i in items) + "</ul>")
+        else:
+            out.append(f"<p>{_esc(block)}</p>")
+    return "\n".join(out)
+
+
 def report_html(root: str | os.PathLike, manifest: dict) -> str:
     """The report page of the output folder *root* with manifest *manifest*."""
     root = Path(root)
@@ -176,6 +194,8 @@ def report_html(root: str | os.PathLike, manifest: dict) -> str:
                    for name in sorted({e["layer"] for e in entries if e["format"] == "geotiff"})],
                   "methods"),
            "<p>" + _esc("; ".join(f"{k}: {v}" for k, v in methods.items())) + "</p>",
+           "<h2 id=\"paragraph\">Methods paragraph (methods.md)</h2>",
+           _markdown_lite(methods_text(manifest)),
            "<h2 id=\"maps\">Maps</h2>", _maps_section(root, entries)]
     tables = _csv_section(root)
     if tables:

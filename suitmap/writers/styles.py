@@ -56,7 +56,9 @@ CLASS_COLOURS: dict[str, dict[str, str]] = {
 
 #: Colours of the companion flag of event-day layers (``<layer>_status``);
 #: ``never`` is also the colour of "never" cells on the event-day map itself.
-EVENT_STATUS_COLOURS = {"occurs": "sky_blue", "never": "vermillion"}
+EVENT_STATUS_COLOURS = {"occurs": "sky_blue", "never": "vermillion",
+                        "occurs_in_both": "sky_blue", "never_in_both": "vermillion",
+                        "starts": "reddish_purple", "stops": "yellow"}
 
 #: Code of missing cells in class layers (uint8 rasters and NetCDF).
 CLASS_NODATA = 255
