@@ -313,7 +313,21 @@ def _patch_seasonal() -> None:
     layers.season_statistics = season_statistics
 
 
-PATCHES = {"f32": _patch_f32, "nochunkcache": _patch_nochunkcache, "filechunks": _patch_filechunks,
+def _patch_exact() -> None:
+    """[compute] fast_tables = false: no tables, no float32 sines; every day exact in float64."""
+    from dataclasses import replace
+
+    from suitmap.pipeline import analysis
+
+    orig = analysis.load_run
+
+    def load_run(path):
+        return replace(orig(path), fast_tables=False)
+
+    analysis.load_run = load_run
+
+
+PATCHES = {"exact": _patch_exact, "f32": _patch_f32, "nochunkcache": _patch_nochunkcache, "filechunks": _patch_filechunks,
            "seasonal": _patch_seasonal}
 
 

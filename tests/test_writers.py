@@ -504,3 +504,23 @@ def test_manifest_checksums_and_verification(tmp_path):
     doc["entries"].append(dict(doc["entries"][0], path="../elsewhere.tif"))
     path.write_text(json.dumps(doc))
     assert any("not inside the output root" in p for p in verify_manifest(path))
+
+
+def test_region_outlines_drawn_in_the_layer_crs_with_a_legend_entry():
+    # A square region inside the grid and one reaching past its edge: both drawn with
+    # their own vertices (clipped by the axes, not moved), and named in the legend.
+    da = one_layer("suitability", np.full((40, 60), 0.5), {"units": "1"})
+    x, y = da["x"].values, da["y"].values
+    inside = np.array([[x[10], y[10]], [x[20], y[10]], [x[20], y[20]], [x[10], y[20]],
+                       [x[10], y[10]]])
+    past = inside + np.array([x[50] - x[10], 0.0])
+    plain = layer_figure(da, title="t")
+    fig = layer_figure(da, title="t", outlines=[inside, past])
+    ax = fig.axes[0]
+    drawn = [np.column_stack(line.get_data()) for line in ax.lines]
+    assert len(drawn) == len(plain.axes[0].lines) + 2
+    assert any(d.shape == inside.shape and np.allclose(d, inside) for d in drawn)
+    assert any(d.shape == past.shape and np.allclose(d, past) for d in drawn)
+    assert ax.get_xlim() == plain.axes[0].get_xlim()   # the map's extent is kept
+    labels = [t.get_text() for t in ax.get_legend().get_texts()]
+    assert "region boundaries" in labels

@@ -105,7 +105,8 @@ def _history(run_path: Path) -> str:
 
 
 def _write_group(ds: xr.Dataset, folder: Path, group: str, kind: str, formats, manifest: Manifest,
-                 history: str, prov: dict, inputs: str, organism: str, info: dict) -> None:
+                 history: str, prov: dict, inputs: str, organism: str, info: dict,
+                 outlines=None) -> None:
     folder.mkdir(parents=True, exist_ok=True)
     agreement = ds.attrs.get("agreement_level")
     if kind == "period":
@@ -136,7 +137,7 @@ def _write_group(ds: xr.Dataset, folder: Path, group: str, kind: str, formats, m
             if "small_ensemble_caution" in da.attrs:
                 caution += f" Only {da.attrs.get('n_models')} climate models: indicative only."
             p = plot_layer(da.rename(name), folder / f"{name}.png", title=title,
-                           caution=caution, hatch=hatch, never=never)
+                           caution=caution, hatch=hatch, never=never, outlines=outlines)
             manifest.add(p, layer=name, period_or_comparison=group, format="png")
     if "netcdf" in formats:
         fname = {"period": "layers.nc", "comparison": "changes.nc", "ensemble": "ensemble.nc"}[kind]
@@ -222,11 +223,14 @@ def write_outputs(layers, *, overwrite: bool = False, folder=None) -> Path:
 def _write_all(layers, root: Path, formats, manifest: Manifest, history: str, prov: dict,
                organism: str) -> None:
     run = layers.run
+    from suitmap.pipeline.regions import region_outlines, write_region_outputs
+
+    outlines = region_outlines(layers) if "png" in formats else None  # drawn on every map
     for name, ds in layers.periods.items():
         files = layers.inputs.get(name, {})
         inputs = "; ".join(Path(f).name for role in ("tmin", "tmax") for f in files.get(role, []))
         _write_group(ds, root / name, name, "period", formats, manifest, history, prov,
-                     inputs, organism, pv.group_info(layers, name, "period", ds))
+                     inputs, organism, pv.group_info(layers, name, "period", ds), outlines)
     for name, ds in layers.comparisons.items():
         inputs = "; ".join(f"{k}: " + ", ".join(Path(f).name for f in v.get("tmin", []) + v.get("tmax", []))
                            for k, v in layers.inputs.items()
@@ -236,7 +240,7 @@ def _write_all(layers, root: Path, formats, manifest: Manifest, history: str, pr
             ds = add_change_event_status(ds, layers.periods[info["baseline"]],
                                          layers.periods[info["scenario"]])
         _write_group(ds, root / name, name, "comparison", formats, manifest, history, prov,
-                     inputs, organism, info)
+                     inputs, organism, info, outlines)
         if "png" in formats:  # baseline | scenario | change, one figure per layer
             for p in _write_panels(layers, ds, root / name, organism, info):
                 manifest.add(p, layer=p.stem.replace("panels_", "", 1),
@@ -245,9 +249,7 @@ def _write_all(layers, root: Path, formats, manifest: Manifest, history: str, pr
         ds = ds.assign_attrs(agreement_level=run.output.agreement_level)
         inputs = "models: " + str(ds.attrs.get("models", ""))
         _write_group(ds, root / name, name, "ensemble", formats, manifest, history, prov,
-                     inputs, organism, pv.group_info(layers, name, "ensemble", ds))
-    from suitmap.pipeline.regions import write_region_outputs
-
+                     inputs, organism, pv.group_info(layers, name, "ensemble", ds), outlines)
     write_region_outputs(layers, root, manifest)  # regions.csv/.gpkg, ranges.csv ([regions], [ranges])
     readme = atomic_write_text(root / "README.txt", _readme_text(layers))
     manifest.add(readme, layer="readme", period_or_comparison="all", format="text")

@@ -252,6 +252,23 @@ def _range_figures(run: RunFile, periods, table, root: Path) -> list[tuple[Path,
     return out
 
 
+def region_outlines(layers) -> list[np.ndarray] | None:
+    """Boundaries of the run's ``[regions]`` in the grid's CRS, as (n, 2) vertex arrays for
+    the maps; None without regions."""
+    geo = layers.run.geography
+    if geo is None or geo.regions_path is None:
+        return None
+    regions = read_regions(geo.regions_path, geo.regions_field, geo.regions_layer)
+    crs = layers.periods[layers.run.baseline.name].rio.crs
+    if crs is not None:
+        regions = regions.to_crs(crs.to_wkt())
+    rings = []
+    for geom in regions.geometry.boundary:
+        for line in getattr(geom, "geoms", [geom]):
+            rings.append(np.asarray(line.coords, dtype=float)[:, :2])
+    return rings
+
+
 def write_region_outputs(layers, root: Path, manifest) -> list[Path]:
     """Write the regional and range tables of computed layers into ``root`` and list them."""
     run = layers.run

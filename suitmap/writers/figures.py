@@ -27,6 +27,7 @@ from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.colors import BoundaryNorm, ListedColormap, Normalize
 from matplotlib.figure import Figure
 from matplotlib.layout_engine import ConstrainedLayoutEngine
+from matplotlib.lines import Line2D
 from matplotlib.patches import Patch, Rectangle
 from matplotlib.ticker import MaxNLocator
 
@@ -162,12 +163,14 @@ def _draw_hatch(ax, mask: np.ndarray, extent, label: str) -> list:
 def layer_figure(da: xr.DataArray, *, title: str, caution: str = DEFAULT_CAUTION,
                  hatch: xr.DataArray | None = None,
                  hatch_label: str = "models disagree",
-                 never: xr.DataArray | None = None) -> Figure:
+                 never: xr.DataArray | None = None, outlines=None) -> Figure:
     """Draw one layer on a new :class:`~matplotlib.figure.Figure` (Agg canvas).
 
     The map is ``figure.axes[0]``.  See :func:`plot_layer` for the parameters;
     ``hatch`` is a boolean (y, x) mask on the same grid whose True cells are hatched;
-    ``never`` one whose True cells (missing in *da*) are drawn as "never", not "no data".
+    ``never`` one whose True cells (missing in *da*) are drawn as "never", not "no data";
+    ``outlines`` a sequence of (n, 2) arrays of x, y vertices in the layer's CRS
+    (region boundaries), drawn as thin dark lines with a legend entry.
 
     Raises
     ------
@@ -210,6 +213,10 @@ def layer_figure(da: xr.DataArray, *, title: str, caution: str = DEFAULT_CAUTION
                                     never=None if never is None else on_grid(never))
     if hatch is not None:
         handles += _draw_hatch(ax, on_grid(hatch), extent, hatch_label)
+    if outlines:
+        for ring in outlines:
+            ax.plot(ring[:, 0], ring[:, 1], color="0.15", linewidth=0.7, zorder=5)
+        handles.append(Line2D([], [], color="0.15", linewidth=0.7, label="region boundaries"))
     if handles:
         ax.legend(handles=handles, loc="upper center", bbox_to_anchor=(0.5, -0.12),
                   ncol=min(len(handles), 2), frameon=False, fontsize="small")
@@ -234,7 +241,8 @@ def layer_figure(da: xr.DataArray, *, title: str, caution: str = DEFAULT_CAUTION
 
 def plot_layer(da: xr.DataArray, path: str | os.PathLike, *, title: str,
                caution: str = DEFAULT_CAUTION, hatch: xr.DataArray | None = None,
-               hatch_label: str = "models disagree", never: xr.DataArray | None = None) -> Path:
+               hatch_label: str = "models disagree", never: xr.DataArray | None = None,
+               outlines=None) -> Path:
     """Draw one layer as a PNG map.
 
     Parameters
@@ -264,7 +272,7 @@ def plot_layer(da: xr.DataArray, path: str | os.PathLike, *, title: str,
     final = Path(path)
     try:
         fig = layer_figure(da, title=title, caution=caution, hatch=hatch, hatch_label=hatch_label,
-                           never=never)
+                           never=never, outlines=outlines)
     except OutputError as exc:
         raise OutputError(f"cannot draw {final.name}: {exc}") from exc
     with atomic_path(final) as tmp:
