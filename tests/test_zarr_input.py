@@ -45,3 +45,16 @@ def test_a_broken_zarr_store_is_named(tmp_path):
     (bad / "zarr.json").write_text("not json")
     with pytest.raises(InputError, match="tmin.zarr.*Zarr store"):
         suitmap.open_climate([bad], "tmin")
+
+
+def test_demo_inputs_found_from_a_source_checkout(monkeypatch):
+    """Run from a checkout (``python -m pytest`` imports the source tree, where the
+    sample folder is not inside the package), the demo still finds ``sample_rasters/``."""
+    from suitmap.pipeline import demo
+
+    def not_installed(name):
+        raise ModuleNotFoundError(name)
+
+    monkeypatch.setattr(demo.resources, "files", not_installed)
+    found = demo.sample_dir()
+    assert found.name == "sample_rasters" and (found / demo.RUN_FILE).is_file()

@@ -26,7 +26,7 @@ def sample_dir() -> Path:
             return p
     except (ModuleNotFoundError, TypeError, AttributeError):
         pass
-    p = Path(__file__).resolve().parents[1] / "sample_rasters"
+    p = Path(__file__).resolve().parents[2] / "sample_rasters"  # <checkout>/suitmap/pipeline/
     if (p / RUN_FILE).is_file():
         return p
     raise OutputError("the bundled sample rasters are missing from this installation; "
