@@ -100,7 +100,8 @@ def _cmd_summarize(args) -> int:
 
 def _cmd_fit(args) -> int:
     from suitmap.fit import fit_all, linear_part
-    from suitmap.fit.report import plot_fits, read_lab_csv, write_profile_toml
+    from suitmap.fit.report import (curve_optimum, plot_fits, read_lab_csv, upper_limit,
+                                    write_profile_toml)
     import numpy as np
 
     from suitmap.kernels.rates import MODELS
@@ -128,8 +129,12 @@ def _cmd_fit(args) -> int:
         print(f"  {score}{r.summary()}")
     best = results[0]
     write_profile_toml(best, data, profile_path, organism_name=args.name or stem,
-                       overwrite=args.overwrite, upper="optimum")
+                       overwrite=args.overwrite, upper="limit")
     plot_fits(data, results, figure_path, overwrite=args.overwrite)
+    topt = curve_optimum(best)
+    print(f"upper_threshold {upper_limit(best, data):.3f} °C (where the {best.model} curve "
+          "falls to zero); optimum " + (f"{topt:.3f} °C (fastest development)" if topt is not None
+                                        else "none (no maximum)"))
     print(f"profile ({best.model}): {profile_path}")
     print(f"figure:  {figure_path}")
     return 0

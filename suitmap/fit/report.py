@@ -23,7 +23,7 @@ from suitmap.writers.atomic import atomic_path
 from suitmap.writers.styles import OKABE_ITO
 
 
-__all__ = ["read_lab_csv", "write_profile_toml", "plot_fits", "upper_limit"]
+__all__ = ["curve_optimum", "read_lab_csv", "write_profile_toml", "plot_fits", "upper_limit"]
 
 _UPPER_CHOICES = ("limit", "optimum")
 
@@ -44,6 +44,22 @@ def upper_limit(result: FitResult, data: LabData) -> float:
     if result.model == "sharpe_schoolfield":
         return float(p["th_half"] - 273.15)
     return float(rate_limits(result.model, p)[1])
+
+
+def curve_optimum(result: FitResult) -> float | None:
+    """Temperature (°C) of the fastest development on the fitted curve, or None.
+
+    None for the linear model (no maximum) and for a curve whose maximum cannot be
+    located (:func:`suitmap.kernels.rates.optimum_temperature`).  Informational:
+    the profile's ``upper_threshold`` is the curve's upper limit (:func:`upper_limit`).
+    """
+    if result.model == "linear" or not result.converged:
+        return None
+    try:
+        t = float(optimum_temperature(result.model, result.params))
+    except ValueError:
+        return None
+    return t if math.isfinite(t) else None
 
 
 def _toml_float(value: float, key: str) -> str:
@@ -69,7 +85,9 @@ def write_profile_toml(result: FitResult, data: LabData, path: str | Path, *,
     x-intercept and inverse slope of the linear part, Campbell et al. 1974),
     whatever the curve; ``upper_threshold`` from the fitted curve: with
     ``upper="limit"`` its upper limit (:func:`upper_limit`), with
-    ``upper="optimum"`` the temperature of the fastest development.
+    ``upper="optimum"`` the temperature of the fastest development (not a
+    development threshold: the rate is still near its maximum there; kept for
+    comparison).  The optimum (:func:`curve_optimum`) is written as a comment.
     ``method = "single_sine"``, ``cutoff = "horizontal"``.
     ``[development.rate_curve]`` holds ``model`` and the fitted parameters by
     their glossary names (full precision); intervals and AIC are comments.
@@ -96,6 +114,7 @@ def write_profile_toml(result: FitResult, data: LabData, path: str | Path, *,
         u = upper_limit(result, data)
     else:
         u = float(optimum_temperature(result.model, result.params))
+    topt = curve_optimum(result)
     lower = lp.lower_threshold
     if not (math.isfinite(u) and u > lower):
         raise InputError(f"lab data {data.source}: the {result.model} curve gives an upper "
@@ -111,6 +130,8 @@ def write_profile_toml(result: FitResult, data: LabData, path: str | Path, *,
         f"lower_threshold se {lp.lower_threshold_se:.3g}, "
         f"degree_days_per_generation se {lp.degree_days_per_generation_se:.3g}.",
         f"# upper_threshold = {'upper limit' if upper == 'limit' else 'optimum'} of the curve.",
+        (f"# optimum = {topt!r} °C (fastest development on the curve; a note, not read "
+         "by suitmap)." if topt is not None else "# optimum: none (the curve has no maximum)."),
         "",
         "[organism]",
         f"name = {json.dumps(organism_name.strip(), ensure_ascii=False)}",
