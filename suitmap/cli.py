@@ -99,7 +99,7 @@ def _cmd_summarize(args) -> int:
 
 
 def _cmd_fit(args) -> int:
-    from suitmap.fit import fit_all, linear_part
+    from suitmap.fit import fit_all, group_by_temperature, linear_part
     from suitmap.fit.report import (curve_optimum, plot_fits, read_lab_csv, upper_limit,
                                     write_profile_toml)
     import numpy as np
@@ -117,10 +117,20 @@ def _cmd_fit(args) -> int:
     for p in (profile_path, figure_path):
         if p.exists() and not args.overwrite:
             raise SuitmapError(f"{p} exists; pass --overwrite to replace it or choose another name")
+    rows = data
+    if args.rows == "group":
+        data = group_by_temperature(rows)
     results = fit_all(data, models, criterion=args.criterion)
     lp = linear_part(data)
-    print(f"lab data: {args.labdata} ({len(data.temperature)} rows, "
-          f"{len(np.unique(data.temperature))} temperatures)")
+    temps = len(np.unique(data.temperature))
+    print(f"lab data: {args.labdata} ({len(rows)} rows, {temps} temperatures)")
+    if args.rows == "individual":
+        print(f"rows: each of the {len(rows)} rows is one observation (--rows individual)")
+    elif len(rows) > temps:
+        print(f"rows: grouped by temperature into {temps} groups (mean development time, "
+              f"weight = individuals per group; --rows individual fits every row)")
+    else:
+        print(f"rows: one per temperature (weight = {'n' if rows.n is not None else 'equal'})")
     print(f"linear part: lower_threshold {lp.lower_threshold:.3f} °C, "
           f"degree_days_per_generation {lp.degree_days_per_generation:.1f} °C·day")
     print(f"models ranked by {args.criterion.upper()} (best first):")
@@ -175,6 +185,9 @@ def build_parser() -> argparse.ArgumentParser:
                    help="model(s) to fit, comma-separated, or 'all' (default)")
     p.add_argument("--criterion", default="aicc", choices=("aicc", "aic", "bic"),
                    help="ranking criterion (default aicc, for the small samples of lab studies)")
+    p.add_argument("--rows", default="group", choices=("group", "individual"),
+                   help="group: rows at one temperature are pooled into one group (mean time, "
+                        "weight = individuals; default); individual: every row is an observation")
     p.add_argument("--name", default=None, help="organism name written into the profile")
     p.add_argument("--profile", default=None, help="profile TOML to write (default <csv>_profile.toml)")
     p.add_argument("--figure", default=None, help="PNG of data and fits (default <csv>_fits.png)")

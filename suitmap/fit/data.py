@@ -1,4 +1,4 @@
-"""Laboratory rearing data for ``suitmap fit``: the table, its reader and its weights."""
+"""Laboratory rearing data for ``suitmap fit``: the table, its reader, its groups and weights."""
 
 from __future__ import annotations
 
@@ -24,7 +24,8 @@ def _needed_text() -> str:
 
 @dataclass(eq=False)
 class LabData:
-    """Development times at constant temperatures, one row per rearing group.
+    """Development times at constant temperatures: one row per rearing group or per
+    individual (:func:`group_by_temperature` pools rows that share a temperature).
 
     ``temperature`` (°C), ``days`` (mean development time, > 0), ``n`` (sample
     size, > 0, the weights of the fits; or None) and ``source`` (file path, in
@@ -75,6 +76,50 @@ class LabData:
 
     def __len__(self) -> int:
         return int(self.days.size)
+
+
+def group_by_temperature(data: LabData) -> LabData:
+    """Pool the rows that share a temperature into one group per temperature.
+
+    Lab files often hold one row per individual (many rows at one rearing
+    temperature).  The individuals at one temperature share a chamber and a
+    cohort, so they are not independent replicates of the temperature
+    response; fitting every row inflates the number of observations and
+    shrinks the standard errors (pseudo-replication, Hurlbert 1984).  Each
+    group becomes one row:
+
+    * development time: the mean of the rows' times, weighted by their
+      sample sizes ``n`` (1 per row without an ``n`` column), i.e. the mean
+      development time of all individuals at that temperature;
+    * sample size: the number of individuals, ``sum(n)``;
+    * the fitted development rate is the reciprocal of the group's mean
+      development time (Campbell et al. 1974), with weight ``sum(n)`` in the
+      weighted least squares (the variance of a mean of ``n`` is
+      ``sigma**2 / n``).  This is what a published table of mean times and
+      sample sizes gives, so a per-individual file and its table of means
+      give the same fit.  The reciprocal of the mean time is not the mean of
+      the individual rates (Jensen's inequality); the two differ little when
+      the times at one temperature vary little.
+
+    With one row per temperature and no ``n`` column the data are returned
+    unchanged.  Rows with an ``n`` column that already are group means pool
+    into their weighted mean.
+
+    References
+    ----------
+    Campbell, A., Frazer, B.D., Gilbert, N., Gutierrez, A.P. & Mackauer, M.
+    (1974) Temperature requirements of some aphids and their parasites.
+    J. Appl. Ecol. 11:431-438.
+    Hurlbert, S.H. (1984) Pseudoreplication and the design of ecological field
+    experiments. Ecol. Monogr. 54:187-211.
+    """
+    temps, index = np.unique(data.temperature, return_inverse=True)
+    if data.n is None and temps.size == len(data):
+        return data
+    n = np.ones(len(data)) if data.n is None else np.asarray(data.n, dtype=float)
+    total = np.bincount(index, weights=n, minlength=temps.size)
+    days = np.bincount(index, weights=n * data.days, minlength=temps.size) / total
+    return LabData(temps, days, total, source=data.source)
 
 
 def _weights(data: LabData, weights: str | None) -> np.ndarray:
