@@ -100,6 +100,7 @@ def _cmd_summarize(args) -> int:
 
 def _cmd_fit(args) -> int:
     from suitmap.fit import fit_all, group_by_temperature, linear_part
+    from suitmap.fit.ranking import write_ranking_csv
     from suitmap.fit.report import (curve_optimum, plot_fits, read_lab_csv, upper_limit,
                                     write_profile_toml)
     import numpy as np
@@ -114,7 +115,8 @@ def _cmd_fit(args) -> int:
     stem = Path(args.labdata).stem
     profile_path = Path(args.profile or f"{stem}_profile.toml")
     figure_path = Path(args.figure or f"{stem}_fits.png")
-    for p in (profile_path, figure_path):
+    ranking_path = Path(args.ranking or profile_path.parent / f"{stem}_ranking.csv")
+    for p in (profile_path, figure_path, ranking_path):
         if p.exists() and not args.overwrite:
             raise SuitmapError(f"{p} exists; pass --overwrite to replace it or choose another name")
     rows = data
@@ -140,12 +142,14 @@ def _cmd_fit(args) -> int:
     best = results[0]
     write_profile_toml(best, data, profile_path, organism_name=args.name or stem,
                        overwrite=args.overwrite, upper="limit")
+    write_ranking_csv(results, ranking_path, overwrite=args.overwrite)
     plot_fits(data, results, figure_path, overwrite=args.overwrite)
     topt = curve_optimum(best)
     print(f"upper_threshold {upper_limit(best, data):.3f} °C (where the {best.model} curve "
           "falls to zero); optimum " + (f"{topt:.3f} °C (fastest development)" if topt is not None
                                         else "none (no maximum)"))
     print(f"profile ({best.model}): {profile_path}")
+    print(f"ranking: {ranking_path}")
     print(f"figure:  {figure_path}")
     return 0
 
@@ -191,7 +195,11 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--name", default=None, help="organism name written into the profile")
     p.add_argument("--profile", default=None, help="profile TOML to write (default <csv>_profile.toml)")
     p.add_argument("--figure", default=None, help="PNG of data and fits (default <csv>_fits.png)")
-    p.add_argument("--overwrite", action="store_true", help="replace existing profile/figure files")
+    p.add_argument("--ranking", default=None,
+                   help="CSV of every model's criteria, ΔAICc, Akaike weight and parameters "
+                        "(default <csv>_ranking.csv beside the profile)")
+    p.add_argument("--overwrite", action="store_true",
+                   help="replace existing profile/figure/ranking files")
     p.set_defaults(func=_cmd_fit)
 
     p = sub.add_parser("check", parents=[common],

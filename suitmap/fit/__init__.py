@@ -2,7 +2,8 @@
 
 Modules: ``data`` (the lab table and its reader), ``start`` (bounds and
 starting values), ``curves`` (weighted least squares, intervals, ranking),
-``report`` (the profile TOML and the figure).
+``report`` (the profile TOML and the figure), ``ranking`` (the table of
+criteria and Akaike weights).
 """
 
 from suitmap.fit.curves import FitResult, LinearPart, fit_all, fit_model, linear_part
