@@ -64,6 +64,8 @@ class LinearPart(NamedTuple):
     temperatures: tuple[float, ...]    #: distinct temperatures used
     n_obs: int                         #: rows used
     r_squared: float
+    #: covariance of (lower_threshold, degree_days_per_generation), delta method
+    covariance: tuple[tuple[float, float], tuple[float, float]] = ((math.nan,) * 2,) * 2
 
 
 def linear_part(data: LabData, *, weights: str | None = "n",
@@ -79,6 +81,10 @@ def linear_part(data: LabData, *, weights: str | None = "n",
     thermal constant ``K = 1/slope``; their standard errors follow Campbell
     et al. (1974): ``se(t) = (rbar/b) sqrt(s**2/(sum(w) rbar**2) + (se_b/b)**2)``
     and ``se(K) = se_b / b**2`` (first-order, rbar the weighted mean rate).
+    ``covariance`` is the first-order (delta-method) covariance of the pair
+    ``(t, K) = (-a/b, 1/b)``: ``G V G'`` with ``V = s**2 (X' W X)^-1`` the
+    coefficient covariance of ``(a, b)`` and ``G = [[-1/b, a/b**2], [0, -1/b**2]]``;
+    its diagonal is the two squared standard errors above.
 
     References
     ----------
@@ -115,8 +121,16 @@ def linear_part(data: LabData, *, weights: str | None = "n",
     se_b = math.sqrt(s2 / sxx)
     se_t = (rbar / b) * math.sqrt(s2 / (sw * rbar**2) + (se_b / b) ** 2)
     r2 = 1.0 - (w * resid**2).sum() / (w * (r - rbar) ** 2).sum()
+    var_b = s2 / sxx
+    v = np.array([[s2 / sw + tbar**2 * var_b, -tbar * var_b],   # (a, b)
+                  [-tbar * var_b, var_b]])
+    g = np.array([[-1.0 / b, a / b**2], [0.0, -1.0 / b**2]])
+    c = g @ v @ g.T
+    c12 = float(0.5 * (c[0, 1] + c[1, 0]))
+    cov = ((float(c[0, 0]), c12), (c12, float(c[1, 1])))
     return LinearPart(float(-a / b), float(1.0 / b), float(se_t), float(se_b / b**2),
-                      float(b), float(a), tuple(float(x) for x in used), int(t.size), float(r2))
+                      float(b), float(a), tuple(float(x) for x in used), int(t.size), float(r2),
+                      cov)
 
 
 @dataclass

@@ -91,6 +91,9 @@ def write_profile_toml(result: FitResult, data: LabData, path: str | Path, *,
     ``method = "single_sine"``, ``cutoff = "horizontal"``.
     ``[development.rate_curve]`` holds ``model`` and the fitted parameters by
     their glossary names (full precision); intervals and AIC are comments.
+    ``[uncertainty]`` holds the covariance of ``lower_threshold`` and
+    ``degree_days_per_generation`` (:attr:`suitmap.fit.LinearPart.covariance`)
+    for parameter draws (``[compute] parameter_draws``).
 
     Raises
     ------
@@ -127,8 +130,8 @@ def write_profile_toml(result: FitResult, data: LabData, path: str | Path, *,
         f"# Rate curve: {result.model}, weighted least squares on 1/days, N = {result.n_obs}, "
         f"AIC = {result.aic:.4g}, BIC = {result.bic:.4g}.",
         f"# Degree-day parameters: linear part at {used} °C (Campbell et al. 1974): "
-        f"lower_threshold se {lp.lower_threshold_se:.3g}, "
-        f"degree_days_per_generation se {lp.degree_days_per_generation_se:.3g}.",
+        f"lower_threshold se {lp.lower_threshold_se:.6g}, "
+        f"degree_days_per_generation se {lp.degree_days_per_generation_se:.6g}.",
         f"# upper_threshold = {'upper limit' if upper == 'limit' else 'optimum'} of the curve.",
         (f"# optimum = {topt!r} °C (fastest development on the curve; a note, not read "
          "by suitmap)." if topt is not None else "# optimum: none (the curve has no maximum)."),
@@ -156,6 +159,13 @@ def write_profile_toml(result: FitResult, data: LabData, path: str | Path, *,
     lines += ["", "[tested_range]  # the lab data's rearing temperatures (outside_tested_range)",
               f"min_temperature = {_toml_float(float(np.min(data.temperature)), 'min_temperature')}",
               f"max_temperature = {_toml_float(float(np.max(data.temperature)), 'max_temperature')}"]
+    (v_t, c_tk), (_, v_k) = lp.covariance
+    lines += ["",
+              "[uncertainty]  # linear part: delta-method covariance of -a/b and 1/b",
+              "# (with a rate_curve, generations come from the curve, not from these two)",
+              'parameters = ["lower_threshold", "degree_days_per_generation"]',
+              f"covariance = [[{_toml_float(v_t, 'covariance')}, {_toml_float(c_tk, 'covariance')}], "
+              f"[{_toml_float(c_tk, 'covariance')}, {_toml_float(v_k, 'covariance')}]]"]
     text = "\n".join(lines) + "\n"
     with atomic_path(path) as tmp:
         tmp.write_text(text, encoding="utf-8")
