@@ -142,5 +142,6 @@ def test_cli_groups_rows_and_says_so(tmp_path, capsys):
     assert a.development.rate_curve.as_dict() == pytest.approx(b.development.rate_curve.as_dict(),
                                                                rel=1e-6)
     assert main(["fit", str(ind), "--model", "briere1", "--rows", "individual",
-                 "--profile", str(tmp_path / "x.toml"), "--figure", str(tmp_path / "x.png")]) == 0
+                 "--profile", str(tmp_path / "x.toml"), "--figure", str(tmp_path / "x.png"),
+                 "--ranking", str(tmp_path / "x.csv")]) == 0
     assert f"each of the {t.size} rows is one observation" in capsys.readouterr().out
