@@ -137,13 +137,16 @@ def _cmd_fit(args) -> int:
           f"degree_days_per_generation {lp.degree_days_per_generation:.1f} °C·day")
     print(f"models ranked by {args.criterion.upper()} (best first):")
     for r in results:
-        score = f"{args.criterion.upper()} {getattr(r, args.criterion):9.2f}  " if r.converged else ""
+        value = getattr(r, args.criterion)
+        score = (f"{args.criterion.upper()} " + (f"{value:9.2f}  " if np.isfinite(value)
+                                                 else "undefined  ") if r.converged else "")
         print(f"  {score}{r.summary()}")
     best = results[0]
     write_profile_toml(best, data, profile_path, organism_name=args.name or stem,
                        overwrite=args.overwrite, upper="limit")
     write_ranking_csv(results, ranking_path, overwrite=args.overwrite)
-    plot_fits(data, results, figure_path, overwrite=args.overwrite)
+    plot_fits(data, results, figure_path, overwrite=args.overwrite, criterion=args.criterion,
+              observations=rows if len(rows) > len(data) else None)
     topt = curve_optimum(best)
     print(f"upper_threshold {upper_limit(best, data):.3f} °C (where the {best.model} curve "
           "falls to zero); optimum " + (f"{topt:.3f} °C (fastest development)" if topt is not None

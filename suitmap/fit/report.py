@@ -23,7 +23,8 @@ from suitmap.writers.atomic import atomic_path
 from suitmap.writers.styles import OKABE_ITO
 
 
-__all__ = ["curve_optimum", "read_lab_csv", "write_profile_toml", "plot_fits", "upper_limit"]
+__all__ = ["curve_optimum", "fits_figure", "read_lab_csv", "write_profile_toml", "plot_fits",
+           "upper_limit"]
 
 _UPPER_CHOICES = ("limit", "optimum")
 
@@ -172,62 +173,113 @@ def write_profile_toml(result: FitResult, data: LabData, path: str | Path, *,
     return path
 
 
-def plot_fits(data: LabData, results: list[FitResult], path: str | Path, *,
-              overwrite: bool = False) -> Path:
-    """PNG of the observed rates (marker area ∝ sample size) and the fitted curves.
+#: Colour of the linear part's regression line (a neutral grey; the fits use Okabe–Ito).
+LINEAR_PART_COLOUR = "#555555"
 
-    Converged fits are drawn in the order given (best first from
-    :func:`suitmap.fit.fit_all`) with their AIC in the legend, in Okabe–Ito
-    colours (Okabe & Ito 2008) with distinct line styles; fits that did not
-    converge are listed under the axes.  Drawn with
-    :class:`matplotlib.figure.Figure` (no pyplot state).
 
-    Raises
-    ------
-    OutputError
-        If ``path`` exists and ``overwrite`` is False, or cannot be written.
+def fits_figure(data: LabData, results: list[FitResult], *, observations: LabData | None = None,
+                criterion: str = "aicc"):
+    """The figure of :func:`plot_fits`, not saved (a :class:`matplotlib.figure.Figure`).
+
+    Artists with ids (``Artist.get_gid``): ``"observed"`` (the fitted rows),
+    ``"rows"`` (``observations``: the individual rows before grouping, when
+    given), ``"linear_part"`` (the regression line of :func:`suitmap.fit.linear_part`
+    over the temperatures it used), ``"linear_part_extrapolated"`` (the same
+    line, dotted, from the lower threshold to the first temperature used) and
+    ``"fit:<model>"`` for each converged curve.
     """
     from matplotlib.backends.backend_agg import FigureCanvasAgg
     from matplotlib.figure import Figure
 
-    path = Path(path)
-    _refuse_existing(path, overwrite, "figure")
     t, r = data.temperature, data.rate
     n = data.n if data.n is not None else np.ones(t.size)
     ok = [res for res in results if res.converged]
     failed = [res.model for res in results if not res.converged]
+    try:
+        lp = linear_part(data)
+    except InputError:
+        lp = None
     span = float(t.max() - t.min())
     lo, hi = float(t.min()) - 0.3 * span, float(t.max()) + 0.3 * span
     for res in ok:
         for key in ("t_low", "t_high"):
             if key in res.params and math.isfinite(res.params[key]):
                 lo, hi = min(lo, res.params[key] - 1.0), max(hi, res.params[key] + 1.0)
+    if lp is not None and math.isfinite(lp.lower_threshold):
+        lo = min(lo, lp.lower_threshold - 1.0)
     grid = np.linspace(lo, hi, 600)
     fig = Figure(figsize=(7.5, 5.0), layout="constrained")
     FigureCanvasAgg(fig)
     ax = fig.add_subplot()
+    top = float(r.max())
+    if observations is not None:
+        ax.scatter(observations.temperature, observations.rate, s=7.0, color="#999999",
+                   alpha=0.6, linewidths=0, zorder=2, gid="rows",
+                   label=f"individual rows ({len(observations)})")
+        top = max(top, float(observations.rate.max()))
     sizes = 12.0 + 150.0 * n / n.max()
-    ax.scatter(t, r, s=sizes, color="black", alpha=0.7, zorder=3,
-               label="observed" + (" (marker area ∝ n)" if data.n is not None else ""))
+    what = "group means" if observations is not None else "observed"
+    ax.scatter(t, r, s=sizes, color="black", alpha=0.75, zorder=4, gid="observed",
+               label=what + (" (marker area ∝ n)" if data.n is not None else ""))
+    if lp is not None:
+        used = np.array([min(lp.temperatures), max(lp.temperatures)])
+        ax.plot(used, lp.intercept + lp.slope * used, color=LINEAR_PART_COLOUR, linewidth=5.0,
+                alpha=0.45, solid_capstyle="butt", zorder=1, gid="linear_part",
+                label=f"linear part {used[0]:g}–{used[1]:g} °C: lower_threshold "
+                      f"{lp.lower_threshold:.1f} °C, {lp.degree_days_per_generation:.0f} °C·day")
+        ext = np.array([lp.lower_threshold, used[0]])
+        ax.plot(ext, lp.intercept + lp.slope * ext, color=LINEAR_PART_COLOUR, linewidth=1.8,
+                linestyle=(0, (1, 1.5)), zorder=1, gid="linear_part_extrapolated")
     order = ("orange", "sky_blue", "bluish_green", "blue", "vermillion", "reddish_purple",
              "yellow")  # yellow, faint on white, last; black is the data
     colours = [OKABE_ITO[key] for key in order]
     styles = ["-", "--", "-.", ":", (0, (5, 1)), (0, (3, 1, 1, 1, 1, 1)), (0, (1, 3))]
+    name = criterion.upper().replace("AICC", "AICc")
     for i, res in enumerate(ok):
         with np.errstate(all="ignore"):
             curve = res.rate(grid)
         rgb = tuple(c / 255 for c in colours[i % len(colours)])
+        score = getattr(res, criterion)
         ax.plot(grid, curve, color=rgb, linestyle=styles[i % len(styles)], linewidth=1.8,
-                label=f"{res.model} (AIC {res.aic:.1f})")
+                zorder=3, gid=f"fit:{res.model}",
+                label=f"{res.model} ({name} {score:.1f})" if math.isfinite(score)
+                else f"{res.model} ({name} undefined)")
     ax.set_xlabel("temperature (°C)")
     ax.set_ylabel("development rate (1/day)")
     ax.set_xlim(lo, hi)
-    ax.set_ylim(bottom=0.0, top=max(float(r.max()), 1e-12) * 1.25)
+    ax.set_ylim(bottom=0.0, top=max(top, 1e-12) * 1.25)
     ax.set_title(f"Development-rate fits: {Path(data.source).name}")
     ax.grid(True, color="#dddddd", linewidth=0.6)
     ax.legend(loc="upper left", fontsize="small", frameon=False)
     if failed:
         fig.text(0.01, 0.005, "not converged: " + ", ".join(failed), fontsize="small")
+    return fig
+
+
+def plot_fits(data: LabData, results: list[FitResult], path: str | Path, *,
+              overwrite: bool = False, observations: LabData | None = None,
+              criterion: str = "aicc") -> Path:
+    """PNG of the observed rates (marker area ∝ sample size) and the fitted curves.
+
+    Converged fits are drawn in the order given (best first from
+    :func:`suitmap.fit.fit_all`) with their ``criterion`` in the legend, in
+    Okabe–Ito colours (Okabe & Ito 2008) with distinct line styles; fits that
+    did not converge are listed under the axes.  The regression line of the
+    linear part (:func:`suitmap.fit.linear_part`) is drawn, wide and grey, over
+    the temperatures it used, dotted down to the lower threshold.  With
+    ``observations`` (the rows before :func:`suitmap.fit.group_by_temperature`)
+    the individual rows are drawn as small grey dots behind the group means.
+    Drawn with :class:`matplotlib.figure.Figure` (no pyplot state); see
+    :func:`fits_figure`.
+
+    Raises
+    ------
+    OutputError
+        If ``path`` exists and ``overwrite`` is False, or cannot be written.
+    """
+    path = Path(path)
+    _refuse_existing(path, overwrite, "figure")
+    fig = fits_figure(data, results, observations=observations, criterion=criterion)
     with atomic_path(path) as tmp:
         fig.savefig(tmp, format="png", dpi=120,
                     metadata={"Title": f"Development-rate fits of {Path(data.source).name}"})
