@@ -163,7 +163,8 @@ def write_profile_toml(result: FitResult, data: LabData, path: str | Path, *,
     (v_t, c_tk), (_, v_k) = lp.covariance
     lines += ["",
               "[uncertainty]  # linear part: delta-method covariance of -a/b and 1/b",
-              "# (with a rate_curve, generations come from the curve, not from these two)",
+              "# with a rate_curve, generations come from the curve: draws of these two leave",
+              "# the generation and suitability layers unchanged",
               'parameters = ["lower_threshold", "degree_days_per_generation"]',
               f"covariance = [[{_toml_float(v_t, 'covariance')}, {_toml_float(c_tk, 'covariance')}], "
               f"[{_toml_float(c_tk, 'covariance')}, {_toml_float(v_k, 'covariance')}]]"]
