@@ -93,7 +93,7 @@ def test_upper_threshold_is_the_curve_limit_and_optimum_reported(tmp_path, capsy
     topt = briere1_optimum(fitted["t_low"], fitted["t_high"])
     printed = float(re.search(r"optimum ([\d.]+) °C", out).group(1))
     assert printed == pytest.approx(topt, abs=1e-3)
-    noted = float(re.search(r"^# optimum = ([\d.]+) °C", text, re.M).group(1))
+    noted = float(re.search(r"^# optimum = ([\d.]+) °C", text, re.MULTILINE).group(1))
     assert noted == pytest.approx(topt, rel=1e-9)
     assert abs(topt - briere1_optimum(10.55, 34.0)) < 0.5
     assert prof.development.upper_threshold - noted > 3.0  # the limit is not the optimum

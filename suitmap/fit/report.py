@@ -129,11 +129,12 @@ def write_profile_toml(result: FitResult, data: LabData, path: str | Path, *,
     lines = [
         f"# Organism profile written by suitmap fit from {name}.",
         f"# Rate curve: {result.model}, weighted least squares on 1/days, N = {result.n_obs}, "
-        f"AIC = {result.aic:.4g}, BIC = {result.bic:.4g}.",
+        f"AIC = {result.aic:.4g}, AICc = {result.aicc:.4g}, BIC = {result.bic:.4g}.",
         f"# Degree-day parameters: linear part at {used} °C (Campbell et al. 1974): "
         f"lower_threshold se {lp.lower_threshold_se:.6g}, "
         f"degree_days_per_generation se {lp.degree_days_per_generation_se:.6g}.",
-        f"# upper_threshold = {'upper limit' if upper == 'limit' else 'optimum'} of the curve.",
+        f"# upper_threshold = " + ("upper limit of the curve (where the fitted rate falls to "
+                                   "zero)." if upper == "limit" else "optimum of the curve."),
         (f"# optimum = {topt!r} °C (fastest development on the curve; a note, not read "
          "by suitmap)." if topt is not None else "# optimum: none (the curve has no maximum)."),
         "",
@@ -162,7 +163,7 @@ def write_profile_toml(result: FitResult, data: LabData, path: str | Path, *,
               f"max_temperature = {_toml_float(float(np.max(data.temperature)), 'max_temperature')}"]
     (v_t, c_tk), (_, v_k) = lp.covariance
     lines += ["",
-              "[uncertainty]  # linear part: delta-method covariance of -a/b and 1/b",
+              "[uncertainty]  # delta-method covariance of the linear part's x-intercept and 1/slope",
               "# with a rate_curve, generations come from the curve: draws of these two leave",
               "# the generation and suitability layers unchanged",
               'parameters = ["lower_threshold", "degree_days_per_generation"]',
