@@ -133,8 +133,9 @@ def _cmd_fit(args) -> int:
               f"weight = individuals per group; --rows individual fits every row)")
     else:
         print(f"rows: one per temperature (weight = {'n' if rows.n is not None else 'equal'})")
-    print(f"linear part: lower_threshold {lp.lower_threshold:.3f} °C, "
-          f"degree_days_per_generation {lp.degree_days_per_generation:.1f} °C·day")
+    print(f"linear part ({', '.join(f'{x:g}' for x in lp.temperatures)} °C): lower_threshold "
+          f"{lp.lower_threshold:.3f} °C (se {lp.lower_threshold_se:.3g}), degree_days_per_generation "
+          f"{lp.degree_days_per_generation:.1f} °C·day (se {lp.degree_days_per_generation_se:.3g})")
     print(f"models ranked by {args.criterion.upper()} (best first):")
     for r in results:
         value = getattr(r, args.criterion)

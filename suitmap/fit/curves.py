@@ -10,7 +10,10 @@ Statistics (the same for every model):
 
 * Weights ``w_i = n_i`` (sample size of the row) when the file has a sample
   size column, else 1: the variance of a mean of ``n`` individuals is
-  ``sigma**2 / n``.  The residual variance is ``s**2 = RSS_w / (N - k)`` with
+  ``sigma**2 / n``.  ``suitmap fit`` first pools the rows that share a
+  temperature (:func:`suitmap.fit.data.group_by_temperature`), so ``N`` below
+  is then the number of rearing temperatures, and ``s**2`` (hence the
+  standard errors) does not change when every row is entered twice.  The residual variance is ``s**2 = RSS_w / (N - k)`` with
   ``RSS_w = sum(w_i * (r_i - f(T_i))**2)``, ``N`` rows and ``k`` parameters.
 * Standard errors come from the linearised covariance ``s**2 (J' W J)^-1``
   at the estimate, ``J`` the Jacobian in the published parameters; 95 %
