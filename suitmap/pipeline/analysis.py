@@ -94,6 +94,10 @@ def delta_downscaled(period: Period, baseline: "PeriodClimate", profile: Profile
     tmin, tmax, swapped = _swap_lazily(out["tmin"], out["tmax"])
     pc = PeriodClimate(period, tmin, tmax, swapped, None, files)
     pc.notes.append(f"delta change ({d.smoothing}) onto baseline '{baseline.period.name}'")
+    if period.pr is not None:
+        from suitmap.pipeline.precipitation import delta_precipitation
+
+        delta_precipitation(pc, baseline, chunk_side(366))
     return pc
 
 
