@@ -167,3 +167,41 @@ def test_degree_day_stages_describe_themselves_as_before():
                                      "upper_threshold": 30.0, "degree_days": 50.0}]
     q = profile_from_dict({**BASE, "stage": [{"name": "egg", "rate_curve": CURVE}]})
     assert q.to_dict()["stage"] == [{"name": "egg", "rate_curve": CURVE}]
+
+
+@pytest.mark.parametrize("diurnal", ["sine", "parton_logan"])
+def test_a_one_stage_rate_curve_follows_the_profiles_day_shape(tmp_path, diurnal):
+    # One rate-curve stage with the profile's own [development.rate_curve] is the profile's
+    # rate summation split into one stage: its event day equals first_generation_day of the
+    # same profile without stages, on varied days, for the sine and the Parton & Logan (1981)
+    # day alike (the stage integrates the rate over the profile's day shape).  The two day
+    # shapes give different development (checked below), so a stage that ignored the
+    # profile's day shape would fail one of the two cases.
+    tmin, tmax = make_tmin_tmax(730, 3, 4, mean=14.0, seed=12)
+    curve = f'model = "briere1"\na = {A}\nt_low = {T0}\nt_high = {TL}\n'
+    day = f'diurnal = "{diurnal}"\n'
+
+    def run(folder, stages):
+        folder.mkdir(parents=True)
+        prof = write_profile(folder, lower=10.0, upper=30.0, ddg=200.0)
+        text = prof.read_text().replace("[survival]", day + "\n[development.rate_curve]\n"
+                                        + curve + "\n[survival]")
+        prof.write_text(text + stages)
+        b = write_period(folder / "c", "b", tmin, tmax)
+        r = write_runfile(folder, prof, [{"name": "baseline", "years": (2001, 2002),
+                                          "tmin": f"c/{b[0]}", "tmax": f"c/{b[1]}"}],
+                          extra="[compute]\nfast_tables = false\n")
+        return suitmap.compute_run(r).compute().periods["baseline"]
+
+    plain = run(tmp_path / "plain", "")
+    staged = run(tmp_path / "staged", EGG_CURVE)
+    assert np.isfinite(plain["first_generation_day"].values).all()
+    np.testing.assert_array_equal(staged["first_egg_day"].values,
+                                  plain["first_generation_day"].values)
+    np.testing.assert_allclose(staged["generations"].values, plain["generations"].values,
+                               rtol=1e-6)
+    assert diurnal in staged.attrs["generations_from"]
+    if diurnal == "parton_logan":
+        day = 'diurnal = "sine"\n'
+        sine = run(tmp_path / "sine", "")
+        assert np.abs(sine["generations"].values - staged["generations"].values).min() > 1e-3
