@@ -108,6 +108,7 @@ def test_delta_scenario_carries_precipitation_by_monthly_ratio(tmp_path):
                                expected, rtol=1e-5)
     np.testing.assert_allclose(layers.periods["baseline"]["annual_precipitation"].values,
                                365 * 3.0, rtol=1e-5)
+    assert "monthly future/historical ratio" in layers.periods["model_delta"].attrs["downscaling"]
     np.testing.assert_allclose(
         layers.comparisons["model_delta_vs_baseline"]["change_annual_precipitation"].values,
         expected - 365 * 3.0, rtol=1e-4)

@@ -325,7 +325,10 @@ def compute_run(run: RunFile | str | Path) -> RunLayers:
                                        f"{period.years[0]}-{period.years[1]} minus "
                                        f"{period.delta.historical_years[0]}-"
                                        f"{period.delta.historical_years[1]}, added to baseline "
-                                       f"{run.baseline.years[0]}-{run.baseline.years[1]}")
+                                       f"{run.baseline.years[0]}-{run.baseline.years[1]}"
+                                       + ("; precipitation: observed times the model's monthly "
+                                          "future/historical ratio" if period.pr is not None
+                                          else ""))
             ds.attrs["years"] = f"{period.years[0]}-{period.years[1]}"
         if period.kind == "historical" or period.reference is not None:
             ds.attrs["model_climate"] = ("raw climate-model output, not bias-corrected: read its change "
