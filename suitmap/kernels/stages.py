@@ -3,12 +3,13 @@
 Each stage has its own thresholds, hence its own daily degree-days, or its own
 development-rate curve, hence its own daily development (rate summation: the
 stage completes when the sum reaches 1); the caller passes one array of daily
-progress per stage, and what each stage needs (its degree-days, or 1).  A generation runs through the stages in
-order and starts the next generation when its last stage completes.  Within a
-day development is taken as even (the day's degree-days spread over 24 h), so
-a stage that completes part-way through a day passes the rest of that day to
-the next stage at the next stage's rate: with constant days the event days are
-exactly the hand computation of cumulative degree-days.
+progress per stage, and what each stage needs (its degree-days, or 1).  A
+generation runs through the stages in order and starts the next generation
+when its last stage completes.  Within a day development is taken as even (the
+day's degree-days or development spread over 24 h), so a stage that completes
+part-way through a day passes the rest of that day to the next stage at the
+next stage's rate: with constant days the event days are exactly the hand
+computation of cumulative degree-days (or of 1/rate days).
 
 Photoperiod cap: a generation that *enters* its day-length-sensitive stage on
 a day when the day is shorter than the critical day length and shortening
