@@ -300,6 +300,17 @@ PROFILE_FAULTS = {
                         ["organism.source"]),
     "rate_curve_parameter_nan": (profile_set("generation = 300.0", "generation = 300.0\nrate_curve = "
                                              "{ model = \"linear\", a = nan, b = 0.01 }"), ["rate_curve.a"]),
+    "stage_rate_curve_param_nan": (profile_set("saturating_generations = 2.0",
+                                               "saturating_generations = 2.0\n[[stage]]\nname = "
+                                               "\"egg\"\n[stage.rate_curve]\nmodel = \"briere1\"\n"
+                                               "a = nan\nt_low = 10.0\nt_high = 35.0"),
+                                   ["stage[0].rate_curve.a"]),
+    "stage_rate_curve_and_degree_days": (profile_set("saturating_generations = 2.0",
+                                                     "saturating_generations = 2.0\n[[stage]]\n"
+                                                     "name = \"egg\"\ndegree_days = 50.0\n"
+                                                     "rate_curve = { model = \"linear\", t_low = 10.0,"
+                                                     " thermal_constant = 50.0 }"),
+                                         ["stage[0].degree_days"]),
     "profile_missing": (lambda c: c["profile"].unlink(), ["profile.toml"]),
 }
 
@@ -331,6 +342,11 @@ RUN_FAULTS = {
                                 ["results", "does not exist"]),
     "output_is_a_file": (lambda c: (c["dir"] / "results").write_text("mine"), ["results", "file"]),
     "glob_matches_nothing": (run_set("climate/scen_tmax.nc", "climate/none_*.nc"), ["none_*.nc"]),
+    "pr_geotiff_without_units": (lambda c: (
+        tif(c["clim"] / "pr.tif", np.full((NT, NY, NX), 2.0), units=""),
+        run_set('tmax = "climate/base_tmax.nc"', 'tmax = "climate/base_tmax.nc"\npr = "climate/pr.tif"')(c),
+        run_set('tmax = "climate/scen_tmax.nc"', 'tmax = "climate/scen_tmax.nc"\npr = "climate/pr.tif"')(c)),
+        ["pr.tif", "units"]),
     "variable_absent": (run_set('tmin = "climate/base_tmin.nc"',
                                 'tmin = { files = "climate/base_tmin.nc", variable = "tasmin" }'),
                         ["base_tmin.nc", "tasmin"]),

@@ -54,7 +54,9 @@ def _parse_dates(texts, calendar: str, where: str) -> np.ndarray:
     return np.array(out, dtype="datetime64[ns]" if calendar in ("standard", "proleptic_gregorian") else object)
 
 
-def _open_geotiff(path: Path, cy, cx) -> dict:
+def _open_geotiff(path: Path, cy, cx, check_units=_canonical_units) -> dict:
+    """One multi-band GeoTIFF as the reader's piece dict; ``check_units(units, where)``
+    refuses units of the wrong kind (temperature by default; precipitation passes its own)."""
     try:
         with rasterio.open(path) as src:
             n, descriptions, band_units = src.count, src.descriptions, src.units
@@ -68,7 +70,7 @@ def _open_geotiff(path: Path, cy, cx) -> dict:
     for shared in ({next((v for k, v in t.items() if k.lower() == "units"), None) for t in band_tags},
                    set(band_units)):
         units = units or (shared.pop() if len(shared) == 1 else None)
-    _canonical_units(units, where)
+    check_units(units, where)
     calendar = _canonical_calendar(ds_tags.get("calendar"), where)
     times = _parse_dates(_geotiff_dates(path, n, descriptions, band_tags), calendar, where)
     da = rioxarray.open_rasterio(path, chunks={"band": -1, "y": cy, "x": cx}, mask_and_scale=True)

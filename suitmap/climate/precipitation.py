@@ -1,9 +1,12 @@
-"""Open daily or monthly precipitation (NetCDF) lazily, as a mean rate in mm/day.
+"""Open daily or monthly precipitation (NetCDF or GeoTIFF) lazily, as a mean rate in mm/day.
 
 The variable is ``variable`` if given, else the one whose ``standard_name`` is
 ``precipitation_flux`` or ``precipitation_amount``, else a common name
 (``pr``, ``precip``, ``prcp``, ``precipitation``, ``tp``, ``rr``, ``rain``).
-Units are never guessed:
+A multi-band GeoTIFF is read as temperature GeoTIFFs are
+(:mod:`suitmap.climate.geotiff`: one band per time step, dates from band
+descriptions, ``DATE`` tags or a ``.dates.txt`` sidecar, units from a
+``units`` tag).  Units are never guessed:
 
 * a flux, ``kg m-2 s-1`` (CF ``precipitation_flux``) or ``mm s-1``: × 86400 s/day;
 * a rate, ``mm/day`` (``mm d-1``, ``kg m-2 d-1`` …): as is;
@@ -26,7 +29,9 @@ from pathlib import Path
 import numpy as np
 import xarray as xr
 
-from suitmap.climate.read import NETCDF_SUFFIXES, _axis_attrs, _normalise, _open_netcdf, resolve_paths
+from suitmap.climate.geotiff import _open_geotiff
+from suitmap.climate.read import (GEOTIFF_SUFFIXES, NETCDF_SUFFIXES, _axis_attrs, _normalise,
+                                  _open_netcdf, resolve_paths)
 from suitmap.climate.grid import check_same_grid
 from suitmap.climate.time_axis import _check_daily, _check_monthly, _drop_overlap, _is_monthly
 from suitmap.errors import InputError
@@ -99,11 +104,17 @@ def open_precipitation(paths, *, variable: str | None = None, chunks: dict | Non
         raise InputError(f"no {what} files given; name at least one file")
     pieces, kinds = [], set()
     for path in files:
-        if path.suffix.lower() not in NETCDF_SUFFIXES:
-            raise InputError(f"{path.name}: precipitation is read from NetCDF (.nc) only so far; "
-                             "convert the file to NetCDF")
-        name = _pick(path, variable)
-        p = _open_netcdf(path, "pr", name, chunks["y"], chunks["x"], file_chunks)
+        suffix = path.suffix.lower()
+        if suffix in GEOTIFF_SUFFIXES:
+            if not path.is_file():
+                raise InputError(f"{what} file {path} does not exist; check the path")
+            p = _open_geotiff(path, chunks["y"], chunks["x"], check_units=_kind)
+        elif suffix in NETCDF_SUFFIXES:
+            name = _pick(path, variable)
+            p = _open_netcdf(path, "pr", name, chunks["y"], chunks["x"], file_chunks)
+        else:
+            raise InputError(f"{path.name}: precipitation is read from NetCDF (.nc) or GeoTIFF "
+                             "(.tif) files; convert the file to one of them")
         kind, factor = _kind(p["units"], p["where"])
         kinds.add(kind)
 

@@ -11,6 +11,7 @@ import re
 from dataclasses import dataclass
 from typing import Any, Callable
 
+from suitmap.config.rate_curve import RateCurve, parse_rate_curve
 from suitmap.errors import ProfileError
 
 _NUM = (int, float)
@@ -27,7 +28,7 @@ BIOLOGY_SCHEMA: dict[str, dict[str, tuple[tuple[type, ...], bool]]] = {
     "tested_range": {"min_temperature": (_NUM, True), "max_temperature": (_NUM, True)},
 }
 UNCERTAIN_PARAMETERS = ("lower_threshold", "upper_threshold", "degree_days_per_generation")
-_STAGE_KEYS = ("name", "lower_threshold", "upper_threshold", "degree_days")
+_STAGE_KEYS = ("name", "lower_threshold", "upper_threshold", "degree_days", "rate_curve")
 _STAGE_NAME = re.compile(r"^[a-z][a-z0-9_]{0,30}$")
 _MMDD = re.compile(r"^(\d{2})-(\d{2})$")
 _DAYS_IN_MONTH = (31, 29, 31, 30, 31, 30, 31, 31, 30, 31, 30, 31)
@@ -50,12 +51,21 @@ class Moisture:
 
 @dataclass(frozen=True)
 class Stage:
-    """One life stage: its thresholds (°C) and degree-days (°C·day)."""
+    """One life stage: its thresholds (°C) and degree-days (°C·day), or its own
+    development-rate curve (then ``degree_days`` is None and the thresholds are not used:
+    the stage completes when its summed daily development reaches 1)."""
 
     name: str
     lower_threshold: float
     upper_threshold: float
-    degree_days: float
+    degree_days: float | None
+    rate_curve: RateCurve | None = None
+
+    def to_dict(self) -> dict[str, Any]:
+        if self.rate_curve is None:   # as before rate-curve stages existed (same hash)
+            return {"name": self.name, "lower_threshold": self.lower_threshold,
+                    "upper_threshold": self.upper_threshold, "degree_days": self.degree_days}
+        return {"name": self.name, "rate_curve": self.rate_curve.to_dict()}
 
 
 @dataclass(frozen=True)
@@ -101,7 +111,7 @@ class Biology:
         if self.moisture is not None:
             d["moisture"] = {k: v for k, v in self.moisture.__dict__.items() if v is not None}
         if self.stages:
-            d["stage"] = [dict(s.__dict__) for s in self.stages]
+            d["stage"] = [s.to_dict() for s in self.stages]
         if isinstance(self.biofix, BiofixRule):
             d["biofix"] = {"after": f"{self.biofix.after[0]:02d}-{self.biofix.after[1]:02d}",
                            "tmax_at_least": self.biofix.tmax_at_least, "days": self.biofix.days}
@@ -146,14 +156,24 @@ def _stages(raw: Any, lower: float, upper: float, where: str) -> tuple[Stage, ..
             if k not in _STAGE_KEYS:
                 raise ProfileError(f"{where}: unknown key {key}.{k}; allowed keys are "
                                    f"{', '.join(_STAGE_KEYS)}")
-            if k != "name" and (isinstance(v, bool) or not isinstance(v, _NUM)):
+            if k not in ("name", "rate_curve") and (isinstance(v, bool) or not isinstance(v, _NUM)):
                 raise ProfileError(f"{where}: {key}.{k} must be a number, got {v!r}")
         name = t.get("name")
         if not isinstance(name, str) or not _STAGE_NAME.match(name):
             raise ProfileError(f"{where}: {key}.name must be a short lower-case name "
                                f"(letters, digits, '_'), got {name!r}")
+        if "rate_curve" in t:
+            extra = [k for k in ("degree_days", "lower_threshold", "upper_threshold") if k in t]
+            if extra:
+                raise ProfileError(f"{where}: {key} has a rate_curve, so {key}.{extra[0]} is not "
+                                   "used; give a stage either degree_days (with optional "
+                                   "thresholds) or a rate_curve")
+            curve = parse_rate_curve(t["rate_curve"], f"{key}.rate_curve", where)
+            out.append(Stage(name, lower, upper, None, curve))
+            continue
         if "degree_days" not in t:
-            raise ProfileError(f"{where}: missing required key {key}.degree_days")
+            raise ProfileError(f"{where}: missing required key {key}.degree_days (or give the "
+                               f"stage its own {key}.rate_curve)")
         lo = float(t.get("lower_threshold", lower))
         hi = float(t.get("upper_threshold", upper))
         dd = float(t["degree_days"])

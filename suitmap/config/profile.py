@@ -16,6 +16,7 @@ from pathlib import Path
 from typing import Any
 
 from suitmap.config.biology import BIOLOGY_SCHEMA, Biology, parse_biology
+from suitmap.config.rate_curve import RateCurve, parse_rate_curve
 from suitmap.config.toml_file import read_toml
 from suitmap.errors import ProfileError
 from suitmap.kernels.degree_days import CUTOFFS, METHODS
@@ -30,17 +31,6 @@ class Organism:
     name: str
     role: str = "pest"
     source: str = ""
-
-
-@dataclass(frozen=True)
-class RateCurve:
-    """A nonlinear development-rate model and its parameters (glossary names)."""
-
-    model: str
-    params: tuple[tuple[str, float], ...]
-
-    def as_dict(self) -> dict[str, float]:
-        return dict(self.params)
 
 
 @dataclass(frozen=True)
@@ -186,24 +176,7 @@ def _parse_mmdd(value: str, key: str, where: str) -> tuple[int, int]:
 
 
 def _rate_curve(raw: dict | None, where: str) -> RateCurve | None:
-    if raw is None:
-        return None
-    from suitmap.kernels.rates import MODELS, validate_params
-
-    raw = dict(raw)
-    model = raw.pop("model", None)
-    if model not in MODELS:
-        raise ProfileError(f"{where}: development.rate_curve.model must be one of "
-                           f"{', '.join(MODELS)}, got {model!r}")
-    for key, value in raw.items():
-        if isinstance(value, bool) or not isinstance(value, (int, float)):
-            raise ProfileError(f"{where}: development.rate_curve.{key} must be a number, got {value!r:.60}")
-        _check_range(f"development.rate_curve.{key}", value, where)
-    try:
-        params = validate_params(model, raw)
-    except ValueError as exc:
-        raise ProfileError(f"{where}: development.rate_curve: {exc}") from None
-    return RateCurve(model, tuple(params.items()))
+    return None if raw is None else parse_rate_curve(raw, "development.rate_curve", where)
 
 
 def profile_from_dict(raw: dict[str, Any], where: str = "profile") -> Profile:

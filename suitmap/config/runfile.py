@@ -54,6 +54,7 @@ class DeltaChange:
     historical_years: tuple[int, int]
     smoothing: str = "doy"        # "doy" (smoothed day-of-year) or "monthly"
     window_days: int = 31
+    historical_pr: ClimateSource | None = None   # the model's historical precipitation
 
 
 @dataclass(frozen=True)
@@ -140,9 +141,11 @@ def _period(table: Any, name_key: str, base: Path, where: str, kind: str,
         raise RunFileError(f"{where}: [{name_key}] must be a table")
     _keys(table, ("name", "years", "tmin", "tmax", "pr", "model", "pathway", "period", "downscale",
                   "tmin_offset", "tmax_offset"), where, name_key)
-    if "pr" in table and "downscale" in table:
-        raise RunFileError(f"{where}: {name_key}.pr cannot be combined with downscale yet; "
-                           "give the scenario's own tmin/tmax/pr files or leave pr out")
+    down = table.get("downscale")
+    if isinstance(down, dict) and ("pr" in table) != ("historical_pr" in down):
+        raise RunFileError(f"{where}: with downscale, give both {name_key}.pr (the model's future "
+                           f"precipitation) and {name_key}.downscale.historical_pr (its historical "
+                           "run), or neither")
     for key in ("model", "pathway", "period"):
         if key in table and not (isinstance(table[key], str) and _NAME.match(table[key])):
             raise RunFileError(f"{where}: {name_key}.{key} must be a short name (at most 64 letters, digits, '-', '_', '.'), got {table[key]!r:.80}")
@@ -198,7 +201,7 @@ def _delta(raw: Any, key: str, base: Path, where: str) -> DeltaChange | None:
     if not isinstance(raw, dict):
         raise RunFileError(f"{where}: {key} must be a table, e.g. {{ method = \"delta\", ... }}")
     _keys(raw, ("method", "historical_tmin", "historical_tmax", "historical_years", "smoothing",
-                "window_days"), where, key)
+                "window_days", "historical_pr"), where, key)
     if raw.get("method", "delta") != "delta":
         raise RunFileError(f"{where}: {key}.method must be \"delta\" (the only method so far)")
     for k in ("historical_tmin", "historical_tmax", "historical_years"):
@@ -216,7 +219,9 @@ def _delta(raw: Any, key: str, base: Path, where: str) -> DeltaChange | None:
         raise RunFileError(f"{where}: {key}.window_days must be an odd whole number of days")
     return DeltaChange(_source(raw["historical_tmin"], f"{key}.historical_tmin", base, where),
                        _source(raw["historical_tmax"], f"{key}.historical_tmax", base, where),
-                       (years[0], years[1]), smoothing, window)
+                       (years[0], years[1]), smoothing, window,
+                       _source(raw["historical_pr"], f"{key}.historical_pr", base, where)
+                       if "historical_pr" in raw else None)
 
 
 def _scenario_sets(raw: Any, base: Path, where: str) -> tuple[list[Period], list[str]]:
@@ -238,9 +243,11 @@ def _scenario_sets(raw: Any, base: Path, where: str) -> tuple[list[Period], list
         if not isinstance(files, str):
             raise RunFileError(f"{where}: {key}.files must be a file-name template string")
         variables = table.get("variables", {"tmin": "tasmin", "tmax": "tasmax"})
-        if (not isinstance(variables, dict) or set(variables) != {"tmin", "tmax"}
+        if (not isinstance(variables, dict) or not {"tmin", "tmax"} <= set(variables)
+                or not set(variables) <= {"tmin", "tmax", "pr"}
                 or not all(isinstance(v, str) for v in variables.values())):
-            raise RunFileError(f"{where}: {key}.variables must be {{ tmin = \"...\", tmax = \"...\" }}")
+            raise RunFileError(f"{where}: {key}.variables must be {{ tmin = \"...\", tmax = \"...\" }}"
+                               " (and optionally pr = \"...\")")
         periods = table.get("periods")
         if not isinstance(periods, dict) or not periods:
             raise RunFileError(f"{where}: {key}.periods must name at least one period, "

@@ -54,6 +54,7 @@ class Found:
     historical: bool = False           # the model's own historical run
     years_found: tuple[int, ...] | None = None   # years of the period both variables' file names cover
     missing_years: tuple[int, ...] = ()          # years of the period no file name covers
+    pr: tuple[str, ...] = ()           # precipitation files, when variables name pr
 
 
 def file_span(path: str) -> tuple[int, int] | None:
@@ -101,7 +102,7 @@ def expand(template: str, variables: dict[str, str], periods: dict[str, tuple[in
     pattern = _TOKEN.sub("*", template)
     regex = _template_regex(template)
     role_of = {token: role for role, token in variables.items()}
-    groups: dict[tuple[str, str, str], dict[str, list[str]]] = defaultdict(lambda: {"tmin": [], "tmax": []})
+    groups: dict[tuple[str, str, str], dict[str, list[str]]] = defaultdict(lambda: {"tmin": [], "tmax": [], "pr": []})
     for path in sorted(glob.glob(pattern)):
         m = regex.match(Path(path).as_posix())
         if not m or m.group("variable") not in role_of:
@@ -128,12 +129,17 @@ def expand(template: str, variables: dict[str, str], periods: dict[str, tuple[in
                 raise RunFileError(f"{where}: scenario set found {model} {pathway} {period} files for "
                                    f"{'tmax' if role == 'tmin' else 'tmin'} but none for {role} "
                                    f"('{variables[role]}'); add them or fix the template")
+        if "pr" in variables and not files["pr"]:
+            raise RunFileError(f"{where}: scenario set found {model} {pathway} {period} "
+                               f"temperature files but none for pr ('{variables['pr']}'); add "
+                               "them, or leave pr out of variables")
         cov = [_covered(files[r], periods[period]) for r in ("tmin", "tmax")]
         found = None if None in cov else tuple(sorted(cov[0] & cov[1]))
         first, last = periods[period]
         missing = () if found is None else tuple(y for y in range(first, last + 1) if y not in found)
         out.append(Found(model, pathway, period, tuple(files["tmin"]), tuple(files["tmax"]),
-                         historical is not None and period == historical, found, missing))
+                         historical is not None and period == historical, found, missing,
+                         tuple(files["pr"])))
     if historical is not None:
         with_hist = {f.model for f in out if f.historical}
         lacking = sorted({f.model for f in out if not f.historical} - with_hist)

@@ -102,20 +102,23 @@ def set_periods(found: list, spans: dict[str, tuple[int, int]], variables: dict[
     for f in sorted(found, key=lambda f: not f.historical):
         tmin = source_cls(f.tmin, variables["tmin"])
         tmax = source_cls(f.tmax, variables["tmax"])
+        pr = source_cls(f.pr, variables["pr"]) if f.pr else None
         if f.historical:
             out.append(period_cls(name=f"{f.model}_{f.period}", years=spans[f.period], tmin=tmin,
                                   tmax=tmax, kind="historical", model=f.model, pathway=f.pathway,
-                                  period=f.period))
+                                  period=f.period, pr=pr))
             continue
         h = hist_of.get(f.model)
         delta = reference = None
         if ref.change_against == "delta_change":
             delta = delta_cls(source_cls(h.tmin, variables["tmin"]), source_cls(h.tmax, variables["tmax"]),
-                              spans[h.period], ref.smoothing, ref.window_days)
+                              spans[h.period], ref.smoothing, ref.window_days,
+                              source_cls(h.pr, variables["pr"]) if h.pr else None)
         elif ref.change_against == "model_historical":
             reference = f"{f.model}_{h.period}"
         out.append(period_cls(name=f"{f.model}_{f.pathway}_{f.period}", years=spans[f.period],
                               tmin=tmin, tmax=tmax, kind="scenario", model=f.model,
                               pathway=f.pathway, period=f.period, delta=delta, reference=reference,
+                              pr=pr,
                               change_against=ref.change_against if ref.historical else None))
     return out

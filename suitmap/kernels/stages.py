@@ -1,12 +1,15 @@
 """Life stages in order through a season: event days, generations, the photoperiod cap.
 
-Each stage has its own thresholds, hence its own daily degree-days; the caller
-passes them as one array per stage.  A generation runs through the stages in
-order and starts the next generation when its last stage completes.  Within a
-day development is taken as even (the day's degree-days spread over 24 h), so
-a stage that completes part-way through a day passes the rest of that day to
-the next stage at the next stage's rate: with constant days the event days are
-exactly the hand computation of cumulative degree-days.
+Each stage has its own thresholds, hence its own daily degree-days, or its own
+development-rate curve, hence its own daily development (rate summation: the
+stage completes when the sum reaches 1); the caller passes one array of daily
+progress per stage, and what each stage needs (its degree-days, or 1).  A
+generation runs through the stages in order and starts the next generation
+when its last stage completes.  Within a day development is taken as even (the
+day's degree-days or development spread over 24 h), so a stage that completes
+part-way through a day passes the rest of that day to the next stage at the
+next stage's rate: with constant days the event days are exactly the hand
+computation of cumulative degree-days (or of 1/rate days).
 
 Photoperiod cap: a generation that *enters* its day-length-sensitive stage on
 a day when the day is shorter than the critical day length and shortening
@@ -21,6 +24,9 @@ References
 ----------
 Degree-day stage models: e.g. Zalom et al. (1983) Degree-days: the calculation
 and use of heat units in pest management, Univ. California DANR Leaflet 21373.
+Rate summation (development as the sum of daily rates, complete at 1): e.g.
+Worner (1992) Performance of phenological models under variable
+temperature regimes, Environmental Entomology 21:689-699.
 Photoperiodic induction of diapause below a critical day length: Danks (1987)
 Insect dormancy: an ecological perspective, Biological Survey of Canada; Tauber,
 Tauber & Masaki (1986) Seasonal adaptations of insects, Oxford Univ. Press.
@@ -65,11 +71,8 @@ def rule_start(tmax: np.ndarray, after: int, threshold: float, days: int) -> np.
 
 
 @numba.njit(cache=True, nogil=True)
-def _walk(dd, need, starts, short, sens, first, gens, before):
+def _walk(dd, need, share, starts, short, sens, first, gens, before):
     n_st, nc, nt = dd.shape
-    total = 0.0
-    for s in range(n_st):
-        total += need[s]
     use_cap = short.shape[0] > 0
     for c in range(nc):
         start = starts[c]
@@ -117,26 +120,30 @@ def _walk(dd, need, starts, short, sens, first, gens, before):
                     f = 0.0
         done = 0.0
         for k in range(s):
-            done += need[k]
+            done += share[k]
         if stopped:
-            gens[c] = float(cycles) + done / total
+            gens[c] = float(cycles) + done
             before[c] = capped
         else:
-            gens[c] = float(cycles) + (done + acc) / total
+            gens[c] = float(cycles) + done + share[s] * acc / need[s]
             before[c] = float(cycles)
 
 
 def stage_walk(dd: np.ndarray, degree_days: np.ndarray, *, start: int = 0,
-               short_days: np.ndarray | None = None, sensitive_stage: int = -1):
+               short_days: np.ndarray | None = None, sensitive_stage: int = -1,
+               shares: np.ndarray | None = None):
     """Walk the generations of one season through the stages, cell by cell.
 
     Parameters
     ----------
     dd : numpy.ndarray
-        Daily degree-days, shape ``(n_stages, ..., n_days)``: stage ``k``'s
-        degree-days (its own thresholds) on every day.
+        Daily progress, shape ``(n_stages, ..., n_days)``: stage ``k``'s
+        degree-days (its own thresholds) on every day, or, for a stage with
+        its own rate curve, its development per day (fraction of the stage).
     degree_days : numpy.ndarray
-        Degree-days each stage needs, shape ``(n_stages,)``, all > 0.
+        What each stage needs, shape ``(n_stages,)``, all > 0: its degree-days,
+        or 1 for a rate-curve stage (rate summation: the stage is complete
+        when its summed daily development reaches 1).
     start : int or numpy.ndarray of int
         Index of the biofix day, one for all cells or one per cell (shape
         ``dd.shape[1:-1]``): accumulation starts on it (days before are not
@@ -146,6 +153,11 @@ def stage_walk(dd: np.ndarray, degree_days: np.ndarray, *, start: int = 0,
         shortening.  None: no photoperiod cap.
     sensitive_stage : int
         Index of the day-length-sensitive stage (with ``short_days``).
+    shares : numpy.ndarray, optional
+        Share of a generation each stage stands for, in the fractional part
+        of ``generations`` (a stage part-done counts its share times the part
+        done); shape ``(n_stages,)``, > 0, summing to 1.  Default
+        ``degree_days / degree_days.sum()`` (all stages on degree-days).
 
     Returns
     -------
@@ -166,6 +178,9 @@ def stage_walk(dd: np.ndarray, degree_days: np.ndarray, *, start: int = 0,
     need = np.ascontiguousarray(degree_days, dtype=np.float64)
     if dd.ndim < 2 or need.shape != (dd.shape[0],) or not np.all(need > 0):
         raise ValueError("dd must be (n_stages, ..., n_days) and degree_days (n_stages,) > 0")
+    share = need / need.sum() if shares is None else np.ascontiguousarray(shares, dtype=np.float64)
+    if share.shape != need.shape or not np.all(share > 0) or abs(share.sum() - 1.0) > 1e-9:
+        raise ValueError("shares must be (n_stages,) positive numbers summing to 1")
     shape = dd.shape[1:-1]
     nt = dd.shape[-1]
     flat = np.ascontiguousarray(dd.reshape(dd.shape[0], -1, nt))
@@ -187,5 +202,5 @@ def stage_walk(dd: np.ndarray, degree_days: np.ndarray, *, start: int = 0,
     first = np.empty((nc, dd.shape[0]))
     gens = np.empty(nc)
     before = np.empty(nc)
-    _walk(flat, need, starts, short, sens, first, gens, before)
+    _walk(flat, need, share, starts, short, sens, first, gens, before)
     return first.reshape(shape + (dd.shape[0],)), gens.reshape(shape), before.reshape(shape)

@@ -315,7 +315,7 @@ def _api_table(model: str, params: dict, diurnal: str, daylength):
     (polar), where the exact integral is used."""
     import math
 
-    from suitmap.layers.compute import _built_table
+    from suitmap.layers.daily_rates import _built_table
 
     key = tuple(sorted((k, float(v)) for k, v in params.items()))
     if diurnal == "sine":

@@ -16,19 +16,14 @@ the glossary.  The suitability score is defined in the README:
 
 from __future__ import annotations
 
-import math
-from functools import lru_cache
-
 import numpy as np
 import xarray as xr
 
 from suitmap.errors import InputError
-from suitmap.kernels.development import daily_development as _dev_kernel
-from suitmap.kernels.diurnal import daylength as _daylength
 from suitmap.kernels.season import season_degree_days, season_reduce
 from suitmap.layers.metadata import LIMITING_FACTOR_CLASSES, MISSING_CLASS, layer_attrs
 from suitmap.config.profile import Profile
-from suitmap.layers.table_cache import cached_table
+from suitmap.layers.daily_rates import _built_table, _daily_development, _fast_table  # noqa: F401
 from suitmap.layers.seasons import (NORTH_DEFAULT, SOUTH_DEFAULT, SeasonWindow, complete_seasons,
                       day360_to_365, season_index, season_labels, time_fields)
 
@@ -56,54 +51,6 @@ def season_windows(profile: Profile) -> tuple[SeasonWindow, SeasonWindow, bool]:
         return SeasonWindow(*NORTH_DEFAULT), SeasonWindow(*SOUTH_DEFAULT), True
     w = SeasonWindow(profile.season.start, profile.season.end)
     return w, w, False
-
-
-def _fast_table(rc, diurnal: str, lat: np.ndarray, doy: np.ndarray):
-    """The lookup table of a rate curve's daily integral, or None to integrate exactly.
-
-    Parton-Logan tables span the daylengths of the grid's latitudes over the
-    period's days; below about 4 h (polar) they are not built.
-    """
-    params = tuple(sorted(rc.as_dict().items()))
-    if diurnal == "sine":
-        return _built_table(rc.model, params, "sine", None)
-    ylen = _daylength(np.unique(lat[np.isfinite(lat)])[:, None], np.unique(doy)[None, :])
-    lo, hi = float(np.nanmin(ylen)), float(np.nanmax(ylen))
-    if not hi >= 4.0:
-        return None
-    # rounded outward to 0.01 h, so the periods of one grid share one table
-    return _built_table(rc.model, params, "parton_logan",
-                        (math.floor(lo * 100) / 100, math.ceil(hi * 100) / 100))
-
-
-@lru_cache(maxsize=4)
-def _built_table(model: str, params: tuple, diurnal: str, daylength_range):
-    """Tables take seconds to build (the Parton-Logan ones up to ~10 s): once per
-    process, and read back from the on-disk cache in later runs (``table_cache``)."""
-    from suitmap.kernels.tables import development_table
-
-    def build():
-        if diurnal == "sine":
-            return development_table(model, dict(params), diurnal="sine")
-        return development_table(model, dict(params), diurnal="parton_logan",
-                                 daylength_range=daylength_range)
-
-    return cached_table(("development", model, params, diurnal, daylength_range), build)
-
-
-def _daily_development(tn, tx, nxt, lat, doy, curve, table=None):
-    """Development per day by rate summation over the day's temperature curve."""
-    model, params, diurnal = curve
-    if table is not None and diurnal == "sine":  # fast path: a (Tmin, Tmax) table
-        return table.evaluate(tn, tx, parallel=False)
-    daylength = None
-    if diurnal == "parton_logan":
-        daylength = _daylength(np.broadcast_to(lat[..., None], tn.shape),
-                               np.broadcast_to(doy, tn.shape))
-        if table is not None:     # fast path: tables over (temperatures, daylength)
-            return table.evaluate(tn, tx, tmin_next=nxt, daylength=daylength, parallel=False)
-    return _dev_kernel(tn, tx, model, params, diurnal=diurnal, daylength=daylength,
-                       tmin_next=nxt, parallel=False)
 
 
 def _season_block(tmin: np.ndarray, tmax: np.ndarray, lat: np.ndarray, *,
@@ -352,7 +299,7 @@ def compute_layers(tmin: xr.DataArray, tmax: xr.DataArray, profile: Profile,
         from suitmap.layers.stages import apply_stages
 
         ds = apply_stages(ds, tmin, tmax, profile, years, lat=cell_latitudes(tmin.isel(time=0)),
-                          windows=season_windows(profile), label=label)
+                          windows=season_windows(profile), label=label, fast=fast)
     if pr is not None:
         from suitmap.layers.moisture import apply_moisture
 

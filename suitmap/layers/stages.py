@@ -2,7 +2,9 @@
 
 With ``[[stage]]`` tables in the profile each season is walked stage by stage
 (:func:`suitmap.kernels.stages.stage_walk`), each stage on its own thresholds'
-daily degree-days (the profile's method and cutoff), from the biofix
+daily degree-days (the profile's method and cutoff) or, for a stage with its own
+``rate_curve``, on its daily development (the rate integrated over the profile's
+day shape, :mod:`suitmap.layers.daily_rates`), from the biofix
 (``[season] biofix``: a date, or the first day from a date that begins n days
 with Tmax at or above a level; else the season's first day).  Per period:
 
@@ -28,6 +30,7 @@ from suitmap.errors import ProfileError
 from suitmap.kernels.degree_days import degree_days_block
 from suitmap.kernels.diurnal import daylength
 from suitmap.kernels.stages import rule_start, stage_walk
+from suitmap.layers.daily_rates import _daily_development, _fast_table
 from suitmap.layers.metadata import LIMITING_FACTOR_CLASSES, MISSING_CLASS, layer_attrs
 from suitmap.layers.seasons import (complete_seasons, day360_to_365, season_index, season_labels,
                                     time_fields)
@@ -41,7 +44,9 @@ def _block(tmin, tmax, lat, *, slices_north, slices_south, starts_north, starts_
     out = np.full((ny, nx, n + 2), np.nan)
     tn, tx = np.minimum(tmin, tmax), np.maximum(tmin, tmax)
     south = np.asarray(lat) < 0
-    need = np.array([s[2] for s in stages])
+    need = np.array([1.0 if s[0] == "rate" else s[3] for s in stages])
+    shares = (None if all(s[0] == "dd" for s in stages)
+              else np.full(n, 1.0 / n))     # mixed: every stage an equal share (README)
     for cells, sl, start in ((~south, slices_north, starts_north),
                              (south, slices_south, starts_south)):
         if sl is None or not cells.any():
@@ -52,8 +57,11 @@ def _block(tmin, tmax, lat, *, slices_north, slices_south, starts_north, starts_
         nxt = np.empty_like(a)
         nxt[..., :-1] = a[..., 1:]
         nxt[..., -1] = tn[..., i1] if i1 < nt else a[..., -1]
-        dd = np.stack([degree_days_block(a, b, nxt, lo, hi, method, cutoff, parallel=False)
-                       for lo, hi, _ in stages])
+        dd = np.stack([
+            degree_days_block(a, b, nxt, st[1], st[2], method, cutoff, parallel=False)
+            if st[0] == "dd" else
+            _daily_development(a, b, nxt, np.asarray(lat, float), doy[i0:i1], st[1], st[2])
+            for st in stages])
         short = None
         if critical is not None:
             d = doy[i0:i1]
@@ -64,7 +72,7 @@ def _block(tmin, tmax, lat, *, slices_north, slices_south, starts_north, starts_
         if rule is not None:      # per cell: first day from the rule's date that begins the warm run
             start = rule_start(b, start, rule[0], rule[1])
         first, gens, capped = stage_walk(dd, need, start=start, short_days=short,
-                                         sensitive_stage=sensitive)
+                                         sensitive_stage=sensitive, shares=shares)
         res = np.concatenate([first, gens[..., None], capped[..., None]], axis=-1)
         out[cells] = res[cells]
     return out
@@ -83,7 +91,22 @@ def _start(months, days, sl, biofix, what: str) -> int:
     return int(hit[0])
 
 
-def stage_statistics(tmin, tmax, profile, years, lat, windows, label=""):
+def _stage_specs(profile, lat, doy, fast: bool) -> tuple:
+    """Per stage ("dd", lower, upper, degree_days) or ("rate", (model, params, day shape),
+    fast table or None): a rate-curve stage uses the profile's day shape
+    (``development.diurnal``) and, with ``fast``, the same tables as the profile's curve."""
+    specs = []
+    for s in profile.biology.stages:
+        if s.rate_curve is None:
+            specs.append(("dd", s.lower_threshold, s.upper_threshold, s.degree_days))
+            continue
+        diurnal = profile.development.diurnal
+        table = _fast_table(s.rate_curve, diurnal, lat, doy) if fast else None
+        specs.append(("rate", (s.rate_curve.model, s.rate_curve.as_dict(), diurnal), table))
+    return tuple(specs)
+
+
+def stage_statistics(tmin, tmax, profile, years, lat, windows, label="", fast=True):
     """Lazy per-season stage statistics (dims ``season_year, y, x``)."""
     bio = profile.biology
     north_w, south_w, per_hemisphere = windows
@@ -98,10 +121,10 @@ def stage_statistics(tmin, tmax, profile, years, lat, windows, label=""):
     sl_s = season_index(lab_s, season_years) if seasons_s else [None] * len(season_years)
     sl_n = [s if y in seasons_n else None for s, y in zip(sl_n, season_years)]
     sl_s = [s if y in seasons_s else None for s, y in zip(sl_s, season_years)]
-    stages = tuple((s.lower_threshold, s.upper_threshold, s.degree_days) for s in bio.stages)
+    doy = np.asarray(tmin["time"].dt.dayofyear.values, dtype=float)
+    stages = _stage_specs(profile, np.asarray(lat, float), doy, fast)
     names = [s.name for s in bio.stages]
     dia = bio.diapause
-    doy = np.asarray(tmin["time"].dt.dayofyear.values, dtype=float)
     lat_da = xr.DataArray(lat, dims=("y", "x"), coords={"y": tmin["y"], "x": tmin["x"]})
     if tmin.chunks is not None:
         lat_da = lat_da.chunk({"y": tmin.chunks[1], "x": tmin.chunks[2]})
@@ -152,9 +175,9 @@ def stage_statistics(tmin, tmax, profile, years, lat, windows, label=""):
 
 
 def apply_stages(ds: xr.Dataset, tmin, tmax, profile, years, *, lat, windows,
-                 label: str = "") -> xr.Dataset:
+                 label: str = "", fast: bool = True) -> xr.Dataset:
     """Replace the generation layers of ``ds`` by the stage walk's and add the stage layers."""
-    stats = stage_statistics(tmin, tmax, profile, years, lat, windows, label)
+    stats = stage_statistics(tmin, tmax, profile, years, lat, windows, label, fast)
     bio = profile.biology
     gens = stats["generations"]
     valid = gens.notnull()
@@ -201,8 +224,14 @@ def apply_stages(ds: xr.Dataset, tmin, tmax, profile, years, *, lat, windows,
     fix = ("the season start" if bio.biofix is None else
            f"biofix {bio.biofix.text()}" if isinstance(bio.biofix, BiofixRule) else
            "biofix %02d-%02d" % bio.biofix)
-    how = (f"life stages {', '.join(s.name for s in bio.stages)} (each on its own thresholds), "
-           f"from {fix}")
+    parts = [s.name if s.rate_curve is None else
+             f"{s.name} ({s.rate_curve.model} rate curve, {profile.development.diurnal} day)"
+             for s in bio.stages]
+    mixed = any(s.rate_curve is not None for s in bio.stages)
+    how = (f"life stages {', '.join(parts)} (degree-day stages each on its own thresholds; "
+           + ("a part-done generation counts each stage as an equal share" if mixed else
+              "a part-done generation counts each stage by its degree-days")
+           + f"), from {fix}")
     ds.attrs["generations_from"] = how
     for name in ("generations", "complete_generations", "first_generation_day",
                  "years_with_generation"):

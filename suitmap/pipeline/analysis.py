@@ -94,6 +94,10 @@ def delta_downscaled(period: Period, baseline: "PeriodClimate", profile: Profile
     tmin, tmax, swapped = _swap_lazily(out["tmin"], out["tmax"])
     pc = PeriodClimate(period, tmin, tmax, swapped, None, files)
     pc.notes.append(f"delta change ({d.smoothing}) onto baseline '{baseline.period.name}'")
+    if period.pr is not None:
+        from suitmap.pipeline.precipitation import delta_precipitation
+
+        delta_precipitation(pc, baseline, chunk_side(366))
     return pc
 
 
@@ -321,7 +325,10 @@ def compute_run(run: RunFile | str | Path) -> RunLayers:
                                        f"{period.years[0]}-{period.years[1]} minus "
                                        f"{period.delta.historical_years[0]}-"
                                        f"{period.delta.historical_years[1]}, added to baseline "
-                                       f"{run.baseline.years[0]}-{run.baseline.years[1]}")
+                                       f"{run.baseline.years[0]}-{run.baseline.years[1]}"
+                                       + ("; precipitation: observed times the model's monthly "
+                                          "future/historical ratio" if period.pr is not None
+                                          else ""))
             ds.attrs["years"] = f"{period.years[0]}-{period.years[1]}"
         if period.kind == "historical" or period.reference is not None:
             ds.attrs["model_climate"] = ("raw climate-model output, not bias-corrected: read its change "

@@ -251,6 +251,10 @@ def _write_all(layers, root: Path, formats, manifest: Manifest, history: str, pr
         _write_group(ds, root / name, name, "ensemble", formats, manifest, history, prov,
                      inputs, organism, pv.group_info(layers, name, "ensemble", ds), outlines)
     write_region_outputs(layers, root, manifest)  # regions.csv/.gpkg, ranges.csv ([regions], [ranges])
+    if run.mismatch is not None:   # both organisms' event days along latitude or elevation
+        from suitmap.pipeline.mismatch import write_mismatch_transects
+
+        write_mismatch_transects(layers, root, manifest)
     readme = atomic_write_text(root / "README.txt", _readme_text(layers))
     manifest.add(readme, layer="readme", period_or_comparison="all", format="text")
 

@@ -60,10 +60,10 @@ def check_geography(run: RunFile) -> None:
         read_regions(geo.regions_path, geo.regions_field, geo.regions_layer)
     if geo.elevation is not None:
         _read_dem(geo.elevation)
-        if not geo.ranges and geo.regions_path is None:
-            warnings.warn(f"{run.path.name}: terrain.elevation is used only with [ranges] or "
-                          "[regions]; add one of them or remove [terrain]", SuitmapWarning,
-                          stacklevel=2)
+        if not geo.ranges and geo.regions_path is None and run.mismatch is None:
+            warnings.warn(f"{run.path.name}: terrain.elevation is used only with [ranges], "
+                          "[regions] or [mismatch]; add one of them or remove [terrain]",
+                          SuitmapWarning, stacklevel=2)
 
 
 def add_range_layers(layers):
