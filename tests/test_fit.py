@@ -407,7 +407,7 @@ def test_write_profile_toml(tmp_path):
     lp = linear_part(data)
     assert dev == {"lower_threshold": lp.lower_threshold, "upper_threshold": res.params["t_high"],
                    "degree_days_per_generation": lp.degree_days_per_generation,
-                   "method": "single_sine", "cutoff": "horizontal"}
+                   "method": "single_sine", "cutoff": "vertical"}  # none above the curve's limit
     assert curve == {"model": "briere1", **res.params}  # full precision round trip
     # the whole file, rate curve included, is a valid suitmap profile
     prof = profile_from_dict({**doc, "development": {**dev, "rate_curve": curve}}, where=str(out))
@@ -430,6 +430,7 @@ def test_write_profile_toml_optimum_and_overwrite(tmp_path):
     t0, tl = res.params["t_low"], res.params["t_high"]
     topt = (4 * tl + 3 * t0 + math.sqrt(16 * tl**2 + 9 * t0**2 - 16 * t0 * tl)) / 10
     assert dev["upper_threshold"] == pytest.approx(topt, rel=1e-9)
+    assert dev["cutoff"] == "horizontal"   # development goes on above the optimum
 
 
 def test_write_profile_refuses_non_converged(tmp_path):

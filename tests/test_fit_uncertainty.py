@@ -1,4 +1,4 @@
-"""Covariance of the degree-day parameters from the linear part, written as [uncertainty].
+"""Covariances written by ``suitmap fit``: the linear part's (a comment) and the curve's ([uncertainty]).
 
 Lower threshold t = -a/b and thermal constant K = 1/b of the regression r = a + b T
 (Campbell et al. 1974); their covariance by the delta method is checked against
@@ -84,27 +84,37 @@ def test_covariance_matches_monte_carlo():
 
 
 def test_profile_uncertainty_round_trip(tmp_path):
+    # the profile's [uncertainty] is the curve's covariance, which must equal the one
+    # scipy.optimize.curve_fit gives for the same weighted least-squares problem (sigma =
+    # 1/sqrt(n), covariance scaled by the residual variance: absolute_sigma=False)
+    from scipy.optimize import curve_fit
+
     rng = np.random.default_rng(12)
     t = np.arange(12.0, 33.0, 2.0)
     n = np.full(t.size, 30.0)
     obs = briere1(t, 1.7e-4, 10.55, 34.0) + 0.02 / np.sqrt(n) * rng.standard_normal(t.size)
     data = LabData(t, 1 / obs, n, source="rearing.csv")
-    path = write_profile_toml(fit_model(data, "briere1"), data, tmp_path / "p.toml",
-                              organism_name="test moth (invented)")
+    res = fit_model(data, "briere1")
+    path = write_profile_toml(res, data, tmp_path / "p.toml", organism_name="test moth (invented)")
     prof = load_profile(path)
     unc = prof.biology.uncertainty
-    assert unc is not None
-    assert unc.parameters == ("lower_threshold", "degree_days_per_generation")
+    assert unc.parameters == ("rate_curve.a", "rate_curve.t_low", "rate_curve.t_high")
     c = np.array(unc.covariance)
     assert np.array_equal(c, c.T) and np.linalg.eigvalsh(c).min() >= 0
-    lp = linear_part(data)
-    np.testing.assert_allclose(c, np.array(lp.covariance), rtol=1e-15)
-    # the square roots of the diagonal are the standard errors given in the comments
+    p0 = [res.params[k] for k in ("a", "t_low", "t_high")]
+    popt, pcov = curve_fit(lambda x, a, t0, tl: briere1(x, a, t0, tl), t, obs, p0=p0,
+                           sigma=1 / np.sqrt(n), absolute_sigma=False, xtol=1e-14, ftol=1e-14)
+    np.testing.assert_allclose(popt, p0, rtol=1e-5)
+    np.testing.assert_allclose(c, pcov, rtol=2e-3, atol=1e-6 * np.abs(pcov).max())
+    # the linear part's covariance stays in a comment, with the standard errors above it
     text = path.read_text()
+    lp = linear_part(data)
+    got = re.search(r"delta method: \[\[([^,]+), ([^,]+)\], \[([^,]+), ([^\]]+)\]\]", text)
+    np.testing.assert_allclose([float(got.group(i)) for i in (1, 2, 4)],
+                               [lp.covariance[0][0], lp.covariance[0][1], lp.covariance[1][1]],
+                               rtol=1e-5)
     se_t = float(re.search(r"lower_threshold se ([\d.e+-]+),", text).group(1))
-    se_k = float(re.search(r"degree_days_per_generation se ([\d.e+-]+)\.", text).group(1))
-    assert math.sqrt(c[0, 0]) == pytest.approx(se_t, rel=1e-5)
-    assert math.sqrt(c[1, 1]) == pytest.approx(se_k, rel=1e-5)
+    assert math.sqrt(lp.covariance[0][0]) == pytest.approx(se_t, rel=1e-5)
 
 
 def test_fitted_profile_feeds_parameter_draws(tmp_path, monkeypatch):
@@ -123,4 +133,6 @@ def test_fitted_profile_feeds_parameter_draws(tmp_path, monkeypatch):
     profiles, draws, _ = draw_profiles(prof, 2000, seed=3)
     assert len(profiles) == 2000
     c = np.array(prof.biology.uncertainty.covariance)
-    np.testing.assert_allclose(np.cov(draws.T)[[0, 1], [0, 1]], np.diag(c), rtol=0.1)
+    np.testing.assert_allclose(np.diag(np.cov(draws.T)), np.diag(c), rtol=0.1)
+    # every drawn profile carries its own curve: the draws are what the layers see
+    assert len({p.development.rate_curve for p in profiles[:50]}) == 50

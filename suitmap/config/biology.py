@@ -28,6 +28,7 @@ BIOLOGY_SCHEMA: dict[str, dict[str, tuple[tuple[type, ...], bool]]] = {
     "tested_range": {"min_temperature": (_NUM, True), "max_temperature": (_NUM, True)},
 }
 UNCERTAIN_PARAMETERS = ("lower_threshold", "upper_threshold", "degree_days_per_generation")
+CURVE_PREFIX = "rate_curve."   # uncertainty.parameters names a curve parameter as rate_curve.<name>
 _STAGE_KEYS = ("name", "lower_threshold", "upper_threshold", "degree_days", "rate_curve")
 _STAGE_NAME = re.compile(r"^[a-z][a-z0-9_]{0,30}$")
 _MMDD = re.compile(r"^(\d{2})-(\d{2})$")
@@ -90,7 +91,8 @@ class BiofixRule:
 
 @dataclass(frozen=True)
 class Uncertainty:
-    """Covariance of fitted parameters (development keys), for parameter draws."""
+    """Covariance of fitted parameters, for parameter draws: development keys
+    (``lower_threshold`` …) or the rate curve's parameters as ``rate_curve.<name>``."""
 
     parameters: tuple[str, ...]
     covariance: tuple[tuple[float, ...], ...]
@@ -234,7 +236,7 @@ def parse_biology(raw: dict, stage_raw: Any, biofix: str | None, development, wh
             raise ProfileError(f"{where}: diapause.sensitive_stage {d['sensitive_stage']!r} is not "
                                "one of the [[stage]] names; name the stage that senses day length")
         diapause = Diapause(hours, d["sensitive_stage"])
-    uncertainty = (_uncertainty(check_table(raw, "uncertainty", where), development, where)
+    uncertainty = (_uncertainty(check_table(raw, "uncertainty", where), development, stages, where)
                    if "uncertainty" in raw else None)
     fix = _biofix(biofix, where)
     if fix is not None and not stages:
@@ -250,17 +252,29 @@ def parse_biology(raw: dict, stage_raw: Any, biofix: str | None, development, wh
     return Biology(moisture, stages, fix, diapause, uncertainty, tested)
 
 
-def _uncertainty(section: dict, development, where: str) -> Uncertainty:
+def _uncertainty(section: dict, development, stages, where: str) -> Uncertainty:
     import numpy as np
 
     names = section["parameters"]
+    curve = development.rate_curve
+    allowed = UNCERTAIN_PARAMETERS + tuple(
+        f"{CURVE_PREFIX}{p}" for p in (curve.as_dict() if curve is not None else ()))
     if (not names or not all(isinstance(n, str) for n in names) or len(set(names)) != len(names)
-            or any(n not in UNCERTAIN_PARAMETERS for n in names)):
-        raise ProfileError(f"{where}: uncertainty.parameters must list distinct development keys "
-                           f"from {', '.join(UNCERTAIN_PARAMETERS)}, got {names!r}")
+            or any(n not in allowed for n in names)):
+        raise ProfileError(f"{where}: uncertainty.parameters must list distinct parameters from "
+                           f"{', '.join(allowed)}, got {names!r}")
     if "degree_days_per_generation" in names and development.degree_days_per_generation is None:
         raise ProfileError(f"{where}: uncertainty names degree_days_per_generation, which the "
                            "profile does not set")
+    # the draws feed the generation and suitability layers; refuse draws that cannot move them
+    if stages:
+        raise ProfileError(f"{where}: [uncertainty] with [[stage]] tables: generations come from "
+                           "the stages, whose parameters are not drawn; remove one of the two")
+    if curve is not None and not any(n.startswith(CURVE_PREFIX) for n in names):
+        raise ProfileError(f"{where}: with [development.rate_curve], generations come from the "
+                           "curve, so draws of " + ", ".join(names) + " would not change them; "
+                           f"name the curve's parameters in uncertainty.parameters "
+                           f"({', '.join(a for a in allowed if a.startswith(CURVE_PREFIX))})")
     cov = section["covariance"]
     k = len(names)
     if (not isinstance(cov, list) or len(cov) != k or not all(

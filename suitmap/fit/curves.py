@@ -153,6 +153,8 @@ class FitResult:
     aicc: float = math.nan
     dof: int = 0
     extra: dict = field(default_factory=dict)
+    #: covariance of ``params`` (rows and columns in ``PARAMS[model]`` order), or None
+    covariance: tuple[tuple[float, ...], ...] | None = None
 
     def rate(self, temp) -> np.ndarray:
         """Fitted development rate (1/day) at ``temp`` (°C)."""
@@ -278,7 +280,9 @@ def fit_model(data: LabData, model: str, *, weights: str | None = "n",
     aic, aicc, bic = _criteria(rss, w, k)
     return FitResult(model, params, ci, se, aic, bic, rss, len(data), converged,
                      "; ".join(notes) if notes else "converged", aicc=aicc, dof=dof,
-                     extra={"nfev": int(best.nfev), "weights": weights or "equal"})
+                     extra={"nfev": int(best.nfev), "weights": weights or "equal"},
+                     covariance=None if cov is None else tuple(
+                         tuple(float(v) for v in row) for row in 0.5 * (cov + cov.T)))
 
 
 def _covariance(t, sw, model, params, s2) -> np.ndarray | None:

@@ -89,12 +89,17 @@ def write_profile_toml(result: FitResult, data: LabData, path: str | Path, *,
     ``upper="optimum"`` the temperature of the fastest development (not a
     development threshold: the rate is still near its maximum there; kept for
     comparison).  The optimum (:func:`curve_optimum`) is written as a comment.
-    ``method = "single_sine"``, ``cutoff = "horizontal"``.
+    ``method = "single_sine"``; ``cutoff = "vertical"`` with ``upper="limit"``
+    (the curve has no development above its limit), ``"horizontal"`` with
+    ``upper="optimum"`` (development goes on near its fastest above it).
     ``[development.rate_curve]`` holds ``model`` and the fitted parameters by
     their glossary names (full precision); intervals and AIC are comments.
-    ``[uncertainty]`` holds the covariance of ``lower_threshold`` and
-    ``degree_days_per_generation`` (:attr:`suitmap.fit.LinearPart.covariance`)
-    for parameter draws (``[compute] parameter_draws``).
+    ``[uncertainty]`` holds the covariance of the curve's parameters
+    (``rate_curve.<name>``, :attr:`suitmap.fit.FitResult.covariance`) for
+    parameter draws (``[compute] parameter_draws``): with a rate curve the
+    generations come from the curve, so its parameters are what the draws
+    vary.  The linear part's covariance (:attr:`suitmap.fit.LinearPart.covariance`)
+    is a comment.  No ``[uncertainty]`` when the curve's covariance is singular.
 
     Raises
     ------
@@ -149,7 +154,7 @@ def write_profile_toml(result: FitResult, data: LabData, path: str | Path, *,
         f"degree_days_per_generation = "
         f"{_toml_float(lp.degree_days_per_generation, 'degree_days_per_generation')}",
         'method = "single_sine"',
-        'cutoff = "horizontal"',
+        f'cutoff = "{"vertical" if upper == "limit" else "horizontal"}"',
         "",
         "[development.rate_curve]",
         f'model = "{result.model}"',
@@ -162,13 +167,17 @@ def write_profile_toml(result: FitResult, data: LabData, path: str | Path, *,
               f"min_temperature = {_toml_float(float(np.min(data.temperature)), 'min_temperature')}",
               f"max_temperature = {_toml_float(float(np.max(data.temperature)), 'max_temperature')}"]
     (v_t, c_tk), (_, v_k) = lp.covariance
-    lines += ["",
-              "[uncertainty]  # delta-method covariance of the linear part's x-intercept and 1/slope",
-              "# with a rate_curve, generations come from the curve: draws of these two leave",
-              "# the generation and suitability layers unchanged",
-              'parameters = ["lower_threshold", "degree_days_per_generation"]',
-              f"covariance = [[{_toml_float(v_t, 'covariance')}, {_toml_float(c_tk, 'covariance')}], "
-              f"[{_toml_float(c_tk, 'covariance')}, {_toml_float(v_k, 'covariance')}]]"]
+    lines += ["", f"# linear part: covariance of (lower_threshold, degree_days_per_generation) by "
+              f"the delta method: [[{v_t:.6g}, {c_tk:.6g}], [{c_tk:.6g}, {v_k:.6g}]]"]
+    if result.covariance is None:
+        lines.append("# no [uncertainty]: the curve's covariance is singular (parameters not "
+                     "all identifiable from these data)")
+    else:
+        names = ", ".join(f'"rate_curve.{k}"' for k in PARAMS[result.model])
+        rows = ", ".join("[" + ", ".join(_toml_float(v, "covariance") for v in row) + "]"
+                         for row in result.covariance)
+        lines += ["[uncertainty]  # covariance of the curve's parameters (weighted least squares)",
+                  f"parameters = [{names}]", f"covariance = [{rows}]"]
     text = "\n".join(lines) + "\n"
     with atomic_path(path) as tmp:
         tmp.write_text(text, encoding="utf-8")
